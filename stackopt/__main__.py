@@ -1,0 +1,3 @@
+from stackopt.cli.main import entry
+
+entry()

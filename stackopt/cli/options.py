@@ -1,0 +1,49 @@
+"""Shared helpers for CLI options: quantities with units, checked at the edge."""
+
+from __future__ import annotations
+
+import argparse
+from collections.abc import Callable
+
+from stackopt.errors import UnitError
+from stackopt.units import Dimension, parse_quantity
+
+
+def quantity(dim: Dimension, option: str, *, positive: bool = True) -> Callable[[str], float]:
+    """An argparse ``type=`` that parses ``"0.19mm"``/``"800MHz"``/bare SI into a float.
+
+    Errors are one line naming the fix; argparse adds the option's name and the parser
+    turns it into an :class:`~stackopt.errors.InputError` (exit code 2).
+    """
+
+    def parse(text: str) -> float:
+        try:
+            x = parse_quantity(text, dim)
+        except UnitError as exc:
+            raise argparse.ArgumentTypeError(f"{exc.message}; {exc.fix}") from None
+        if positive and x <= 0:
+            raise argparse.ArgumentTypeError(
+                f"must be greater than zero, got {text!r}; give a positive {dim}")
+        return x
+
+    parse.__name__ = dim  # argparse shows this in its messages
+    return parse
+
+
+def count(option: str, lo: int = 1, hi: int = 1000) -> Callable[[str], int]:
+    """An argparse ``type=`` for a whole number in ``[lo, hi]``."""
+
+    def parse(text: str) -> int:
+        try:
+            n = int(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(
+                f"expected a whole number, got {text!r}; give an integer from {lo} to {hi}"
+            ) from None
+        if not lo <= n <= hi:
+            raise argparse.ArgumentTypeError(
+                f"{n} is out of range; give an integer from {lo} to {hi}")
+        return n
+
+    parse.__name__ = "count"
+    return parse

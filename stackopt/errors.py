@@ -1,0 +1,141 @@
+"""One error path for the whole tool.
+
+Every user mistake becomes a :class:`StackoptError` subclass whose ``str()`` is a single
+line naming where (file, line, key path), what (the bad value) and the fix. The CLI turns
+these into exit code 2; anything else is an internal error (exit code 1).
+"""
+
+from __future__ import annotations
+
+import difflib
+from collections.abc import Iterable, Sequence
+from pathlib import Path
+
+__all__ = [
+    "StackoptError",
+    "InputError",
+    "UnitError",
+    "ModelError",
+    "OutputError",
+    "did_you_mean",
+    "format_key_path",
+]
+
+
+def format_key_path(path: Sequence[str | int] | str | None) -> str:
+    """Return ``a.b[2].c`` for ``("a", "b", 2, "c")``."""
+    if path is None:
+        return ""
+    if isinstance(path, str):
+        return path
+    out = ""
+    for part in path:
+        if isinstance(part, int):
+            out += f"[{part}]"
+        else:
+            out += ("." if out else "") + str(part)
+    return out
+
+
+def did_you_mean(word: str, choices: Iterable[str]) -> str:
+    """Return ``" (did you mean 'x'?)"`` for the closest choice, or ``""``."""
+    close = difflib.get_close_matches(str(word), [str(c) for c in choices], n=1, cutoff=0.6)
+    return f" (did you mean '{close[0]}'?)" if close else ""
+
+
+class StackoptError(Exception):
+    """Base of every error a user can cause; its message is one line."""
+
+    exit_code = 2
+
+
+class InputError(ValueError, StackoptError):
+    """A value in a file or on the command line is wrong.
+
+    Parameters
+    ----------
+    message : str
+        What is wrong, e.g. ``"thickness must be positive, got -0.1 mm"``.
+    file : str or Path, optional
+        The file it came from.
+    key : sequence or str, optional
+        Key path inside the file (``("stackup", 2, "thickness")``) or the CLI option.
+    line, column : int, optional
+        1-based position in the file, where known.
+    fix : str, optional
+        What would be accepted.
+    """
+
+    def __init__(
+        self,
+        message: str,
+        *,
+        file: str | Path | None = None,
+        key: Sequence[str | int] | str | None = None,
+        line: int | None = None,
+        column: int | None = None,
+        fix: str | None = None,
+    ) -> None:
+        self.message = message
+        self.file = str(file) if file is not None else None
+        self.key = format_key_path(key)
+        self.line = line
+        self.column = column
+        self.fix = fix
+        super().__init__(self._render())
+
+    def _render(self) -> str:
+        where = ""
+        if self.file:
+            where = self.file
+            if self.line is not None:
+                where += f":{self.line}"
+                if self.column is not None:
+                    where += f":{self.column}"
+        parts = []
+        if where:
+            parts.append(where)
+        if self.key:
+            parts.append(self.key)
+        head = ": ".join(parts)
+        text = f"{head}: {self.message}" if head else self.message
+        if self.fix:
+            text += f"; {self.fix}"
+        return " ".join(text.split())  # always one line
+
+    def located(
+        self,
+        *,
+        file: str | Path | None = None,
+        line: int | None = None,
+        column: int | None = None,
+        prefix: Sequence[str | int] | None = None,
+    ) -> InputError:
+        """Return a copy with file/line filled in (and the key path prefixed)."""
+        key = self.key
+        if prefix:
+            pre = format_key_path(prefix)
+            key = f"{pre}.{key}" if key and not key.startswith("[") else f"{pre}{key}"
+        err = type(self).__new__(type(self))
+        InputError.__init__(
+            err,
+            self.message,
+            file=file if file is not None else self.file,
+            key=key,
+            line=line if line is not None else self.line,
+            column=column if column is not None else self.column,
+            fix=self.fix,
+        )
+        return err
+
+
+class UnitError(InputError):
+    """A quantity could not be parsed or has the wrong dimension."""
+
+
+class ModelError(InputError):
+    """A model name or combination of inputs outside what a model supports."""
+
+
+class OutputError(OSError, StackoptError):
+    """An output folder or file cannot be written (or would overwrite without --force)."""

@@ -1,0 +1,1 @@
+"""Inputs: read scenario and cost-table files into validated models (units, errors)."""

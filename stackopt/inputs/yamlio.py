@@ -1,0 +1,121 @@
+"""Read YAML safely: no object construction, duplicate keys are errors, every key's
+line and column remembered so that later validation errors can point at the file.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import yaml
+
+from stackopt.errors import InputError
+
+KeyPath = tuple[str | int, ...]
+
+__all__ = ["Document", "load_yaml", "parse_yaml_text"]
+
+
+@dataclass(frozen=True)
+class Document:
+    """Parsed YAML data plus the (line, column) of every key path (1-based)."""
+
+    data: Any
+    file: str
+    marks: dict[KeyPath, tuple[int, int]] = field(default_factory=dict)
+
+    def where(self, path: Sequence[str | int]) -> tuple[int | None, int | None]:
+        """Line and column of ``path``, or of its longest known prefix."""
+        p = tuple(path)
+        while p:
+            if p in self.marks:
+                return self.marks[p]
+            p = p[:-1]
+        return self.marks.get((), (None, None))
+
+    def error(self, message: str, path: Sequence[str | int], fix: str | None = None) -> InputError:
+        """Build an :class:`InputError` located at ``path`` in this document."""
+        line, col = self.where(path)
+        return InputError(message, file=self.file, key=list(path), line=line, column=col, fix=fix)
+
+
+class _Loader(yaml.SafeLoader):
+    pass
+
+
+def _walk(loader: _Loader, node: yaml.Node, path: KeyPath, marks: dict, file: str) -> Any:
+    marks.setdefault(path, (node.start_mark.line + 1, node.start_mark.column + 1))
+    if isinstance(node, yaml.MappingNode):
+        loader.flatten_mapping(node)
+        out: dict[Any, Any] = {}
+        for key_node, value_node in node.value:
+            key = loader.construct_object(key_node, deep=True)
+            if isinstance(key, list | dict):
+                raise InputError("a mapping key must be a plain word", file=file,
+                                 key=list(path), line=key_node.start_mark.line + 1,
+                                 column=key_node.start_mark.column + 1,
+                                 fix="write 'name: value'")
+            if key in out:
+                raise InputError(f"duplicate key {key!r}", file=file, key=list(path) + [key],
+                                 line=key_node.start_mark.line + 1,
+                                 column=key_node.start_mark.column + 1,
+                                 fix="keep one of them; YAML would silently keep only the last")
+            sub = path + (key if isinstance(key, int) else str(key),)
+            marks[sub] = (key_node.start_mark.line + 1, key_node.start_mark.column + 1)
+            out[key] = _walk(loader, value_node, sub, marks, file)
+        return out
+    if isinstance(node, yaml.SequenceNode):
+        return [_walk(loader, n, path + (i,), marks, file) for i, n in enumerate(node.value)]
+    return loader.construct_object(node, deep=True)
+
+
+def parse_yaml_text(text: str, file: str = "<text>") -> Document:
+    """Parse YAML text into a :class:`Document` (see :func:`load_yaml`)."""
+    loader = _Loader(text)
+    try:
+        node = loader.get_single_node()
+        marks: dict[KeyPath, tuple[int, int]] = {}
+        data = None if node is None else _walk(loader, node, (), marks, file)
+    except yaml.MarkedYAMLError as exc:
+        mark = exc.problem_mark or exc.context_mark
+        line = mark.line + 1 if mark else None
+        col = mark.column + 1 if mark else None
+        problem = exc.problem or exc.context or "YAML syntax error"
+        raise InputError(f"YAML syntax error: {problem}", file=file, line=line, column=col,
+                         fix="check indentation, colons and quotes near that line") from None
+    except yaml.YAMLError as exc:
+        raise InputError(f"YAML error: {exc}", file=file, fix="check the file's syntax") from None
+    finally:
+        loader.dispose()
+    return Document(data=data, file=file, marks=marks)
+
+
+def load_yaml(path: str | Path) -> Document:
+    """Read a YAML file with a safe loader.
+
+    Raises
+    ------
+    InputError
+        The file is missing, unreadable, not UTF-8, not YAML, or has duplicate keys.
+    """
+    p = Path(path)
+    try:
+        raw = p.read_bytes()
+    except FileNotFoundError:
+        raise InputError("file not found", file=p, fix="check the path") from None
+    except IsADirectoryError:
+        raise InputError("is a folder, not a file", file=p, fix="name a .yaml file") from None
+    except OSError as exc:
+        raise InputError(f"cannot read file ({exc.strerror})", file=p,
+                         fix="check the path and its permissions") from None
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise InputError(f"not UTF-8 text (byte {exc.start})", file=p,
+                         fix="save the file as UTF-8 YAML") from None
+    if "\x00" in text:
+        raise InputError("file contains NUL bytes; it is not a YAML text file", file=p,
+                         fix="save the file as UTF-8 YAML")
+    return parse_yaml_text(text, str(p))

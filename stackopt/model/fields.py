@@ -1,0 +1,56 @@
+"""Pydantic field types that take quantities with units and hold SI floats.
+
+Use them in frozen models (``model_config = FROZEN``):
+
+>>> from pydantic import BaseModel
+>>> class Via(BaseModel):
+...     model_config = FROZEN
+...     drill: PositiveLength
+>>> Via(drill="0.3 mm").drill
+0.0003
+"""
+
+from __future__ import annotations
+
+from typing import Annotated
+
+from pydantic import AfterValidator, BeforeValidator, ConfigDict
+
+from stackopt.units import Dimension, parse_quantity
+
+#: Config for every input model: immutable, unknown keys are errors, no silent coercion
+#: of strings to numbers beyond what the unit parser does.
+FROZEN = ConfigDict(frozen=True, extra="forbid", str_strip_whitespace=True)
+
+
+def _parser(dim: Dimension):
+    def parse(v: object) -> float:
+        return parse_quantity(v, dim)
+
+    return BeforeValidator(parse)
+
+
+def _positive(x: float) -> float:
+    if x <= 0:
+        raise ValueError(f"must be greater than zero, got {x:g} (SI)")
+    return x
+
+
+def _non_negative(x: float) -> float:
+    if x < 0:
+        raise ValueError(f"must not be negative, got {x:g} (SI)")
+    return x
+
+
+Length = Annotated[float, _parser("length")]
+PositiveLength = Annotated[float, _parser("length"), AfterValidator(_positive)]
+NonNegativeLength = Annotated[float, _parser("length"), AfterValidator(_non_negative)]
+Frequency = Annotated[float, _parser("frequency"), AfterValidator(_positive)]
+Impedance = Annotated[float, _parser("impedance"), AfterValidator(_positive)]
+Resistance = Annotated[float, _parser("impedance"), AfterValidator(_non_negative)]
+Inductance = Annotated[float, _parser("inductance"), AfterValidator(_non_negative)]
+Capacitance = Annotated[float, _parser("capacitance"), AfterValidator(_non_negative)]
+Voltage = Annotated[float, _parser("voltage"), AfterValidator(_non_negative)]
+PositiveFloat = Annotated[float, _parser("dimensionless"), AfterValidator(_positive)]
+NonNegativeFloat = Annotated[float, _parser("dimensionless"), AfterValidator(_non_negative)]
+Decibel = Annotated[float, _parser("decibel")]

@@ -1,0 +1,180 @@
+"""The board stackup: an ordered list of copper layers and the dielectrics between them.
+
+Only thicknesses and materials are stored; z-positions, total thickness, distances to the
+nearest plane, via spans and symmetry are computed from them, never stored twice.
+Layers are numbered 1..n from the top (component side) down; dielectric ``i`` (0-based)
+lies between copper layers ``i + 1`` and ``i + 2``.
+"""
+
+from __future__ import annotations
+
+from typing import Literal
+
+import numpy as np
+from pydantic import BaseModel, Field, model_validator
+
+from stackopt.model.fields import FROZEN, PositiveFloat, PositiveLength
+
+Role = Literal["signal", "plane", "mixed"]
+DielectricKind = Literal["prepreg", "core"]
+
+__all__ = ["Copper", "Dielectric", "Stackup", "Role", "DielectricKind"]
+
+
+class Copper(BaseModel):
+    """One copper layer: its finished thickness and what it carries."""
+
+    model_config = FROZEN
+    thickness: PositiveLength = Field(description="finished copper thickness, m")
+    role: Role = Field(description="signal, plane (solid reference) or mixed (pour + signals)")
+    name: str | None = None
+
+
+class Dielectric(BaseModel):
+    """One dielectric: prepreg (one or more plies) or core."""
+
+    model_config = FROZEN
+    kind: DielectricKind
+    material: str = Field(min_length=1, description="catalogue name, e.g. '2116' or 'core 0.2'")
+    thickness: PositiveLength = Field(description="pressed thickness, m")
+    er: PositiveFloat = Field(description="relative permittivity (Dk) near 1 GHz")
+    df: float = Field(0.02, ge=0.0, lt=1.0, description="loss tangent (Df)")
+    plies: int = Field(1, ge=1, le=6)
+
+    @model_validator(mode="after")
+    def _ranges(self) -> Dielectric:
+        if not 1.0 <= self.er <= 20.0:
+            raise ValueError(f"Dk {self.er:g} is outside 1..20; give the relative permittivity")
+        return self
+
+
+class Stackup(BaseModel):
+    """A board stackup, top (layer 1) to bottom.
+
+    Examples
+    --------
+    >>> s = Stackup.two_layer(1.55e-3)
+    >>> round(s.thickness * 1e3, 3)
+    1.62
+    """
+
+    model_config = FROZEN
+    copper: tuple[Copper, ...] = Field(min_length=1)
+    dielectrics: tuple[Dielectric, ...] = ()
+
+    @model_validator(mode="after")
+    def _shape(self) -> Stackup:
+        n = len(self.copper)
+        if len(self.dielectrics) != n - 1:
+            raise ValueError(
+                f"{n} copper layers need {n - 1} dielectrics between them, "
+                f"got {len(self.dielectrics)}; list one dielectric between each pair"
+            )
+        return self
+
+    # ---- derived geometry (computed, never stored) -------------------------------------
+    @property
+    def n_layers(self) -> int:
+        """Number of copper layers."""
+        return len(self.copper)
+
+    @property
+    def z_top(self) -> np.ndarray:
+        """z of the top face of each copper layer, m (0 at the top surface, positive down)."""
+        t = np.empty(2 * self.n_layers - 1)
+        t[0::2] = [c.thickness for c in self.copper]
+        t[1::2] = [d.thickness for d in self.dielectrics]
+        starts = np.concatenate([[0.0], np.cumsum(t)[:-1]])
+        return starts[0::2]
+
+    @property
+    def z_bottom(self) -> np.ndarray:
+        """z of the bottom face of each copper layer, m."""
+        return self.z_top + np.array([c.thickness for c in self.copper])
+
+    @property
+    def thickness(self) -> float:
+        """Total pressed thickness over copper, m (no mask or plating build-up)."""
+        return float(self.z_bottom[-1])
+
+    @property
+    def planes(self) -> list[int]:
+        """0-based indices of the plane layers."""
+        return [i for i, c in enumerate(self.copper) if c.role == "plane"]
+
+    def dielectric_between(self, a: int, b: int) -> float:
+        """Dielectric thickness (no copper) between copper layers ``a`` and ``b`` (0-based)."""
+        lo, hi = sorted((a, b))
+        return float(sum(d.thickness for d in self.dielectrics[lo:hi]))
+
+    def plane_distance(self, layer: int) -> tuple[float | None, float | None]:
+        """Distance from copper ``layer`` to the nearest plane above and below, m.
+
+        Measured face to face (bottom of the upper conductor to the top of the lower one),
+        i.e. the dielectric height a trace on ``layer`` sees. ``None`` where there is none.
+        """
+        above = [p for p in self.planes if p < layer]
+        below = [p for p in self.planes if p > layer]
+        up = float(self.z_top[layer] - self.z_bottom[max(above)]) if above else None
+        down = float(self.z_top[min(below)] - self.z_bottom[layer]) if below else None
+        return up, down
+
+    def reference_plane(self, layer: int = 0) -> int | None:
+        """The nearest plane to ``layer`` (0-based), or ``None`` if the board has none.
+
+        For the top layer of a two-layer board with a bottom ground, that is layer 1.
+        """
+        planes = [p for p in self.planes if p != layer]
+        if not planes:
+            return None
+        return min(planes, key=lambda p: (abs(p - layer), p))
+
+    def via_depth(self, layer: int = 0, plane: int | None = None) -> float | None:
+        """Height ``h`` of a ground via from ``layer`` to ``plane`` (default: nearest), m.
+
+        The dielectric between the two copper faces (the ``h`` of the ground-via models:
+        substrate thickness for Goldfarb-Pucel). For the top layer of a four-layer board
+        with 0.19 mm prepreg to layer 2 this is 0.19 mm; for a 1.6 mm two-layer board it
+        is the core thickness. ``None`` if the board has no plane.
+        """
+        plane = self.reference_plane(layer) if plane is None else plane
+        if plane is None:
+            return None
+        return self.dielectric_between(layer, plane) + float(
+            sum(c.thickness for c in self.copper[min(layer, plane) + 1:max(layer, plane)])
+        )
+
+    def via_span(self, a: int, b: int) -> float:
+        """Barrel length of a via joining copper layers ``a`` and ``b`` outer face to face."""
+        lo, hi = sorted((a, b))
+        return float(self.z_bottom[hi] - self.z_top[lo])
+
+    @property
+    def is_symmetric(self) -> bool:
+        """Mirror symmetric about the board's centre (thicknesses, kinds and Dk)."""
+        cu = [round(c.thickness, 9) for c in self.copper]
+        di = [(d.kind, round(d.thickness, 9), round(d.er, 3)) for d in self.dielectrics]
+        return cu == cu[::-1] and di == di[::-1]
+
+    # ---- convenience ------------------------------------------------------------------
+    @classmethod
+    def two_layer(cls, core: float, copper: float = 35e-6, er: float = 4.5,
+                  material: str = "FR-4 core") -> Stackup:
+        """A double-sided board: signal on top, ground plane on the bottom."""
+        return cls(
+            copper=(Copper(thickness=copper, role="signal"), Copper(thickness=copper, role="plane")),
+            dielectrics=(Dielectric(kind="core", material=material, thickness=core, er=er),),
+        )
+
+    def to_records(self) -> list[dict]:
+        """Layers top to bottom as plain dicts (``kind``, ``material``, ``thickness_m``,
+        and ``role`` for copper or ``er``/``df`` for dielectrics)."""
+        out: list[dict] = []
+        for i, c in enumerate(self.copper):
+            out.append({"kind": "copper", "material": "copper", "thickness_m": c.thickness,
+                        "role": c.role, "name": c.name or f"L{i + 1}"})
+            if i < len(self.dielectrics):
+                d = self.dielectrics[i]
+                out.append({"kind": d.kind, "material": d.material, "thickness_m": d.thickness,
+                            "er": d.er, "df": d.df, "plies": d.plies})
+        return out
