@@ -15,7 +15,9 @@ from pydantic import BaseModel, Field, model_validator
 
 from stackopt.model.fields import FROZEN, PositiveFloat, PositiveLength
 
-Role = Literal["signal", "plane", "mixed"]
+Role = Literal["signal", "ground", "power", "plane", "mixed"]
+#: Roles that form a solid reference plane.
+PLANE_ROLES = ("ground", "power", "plane")
 DielectricKind = Literal["prepreg", "core"]
 
 __all__ = ["Copper", "Dielectric", "Stackup", "Role", "DielectricKind"]
@@ -26,7 +28,8 @@ class Copper(BaseModel):
 
     model_config = FROZEN
     thickness: PositiveLength = Field(description="finished copper thickness, m")
-    role: Role = Field(description="signal, plane (solid reference) or mixed (pour + signals)")
+    role: Role = Field(description="signal, ground / power / plane (solid reference), or mixed "
+                      "(pour + signals)")
     name: str | None = None
 
 
@@ -100,7 +103,7 @@ class Stackup(BaseModel):
     @property
     def planes(self) -> list[int]:
         """0-based indices of the plane layers."""
-        return [i for i, c in enumerate(self.copper) if c.role == "plane"]
+        return [i for i, c in enumerate(self.copper) if c.role in PLANE_ROLES]
 
     def dielectric_between(self, a: int, b: int) -> float:
         """Dielectric thickness (no copper) between copper layers ``a`` and ``b`` (0-based)."""
@@ -129,6 +132,14 @@ class Stackup(BaseModel):
             return None
         return min(planes, key=lambda p: (abs(p - layer), p))
 
+    def ground_plane(self, layer: int = 0) -> int | None:
+        """The ground plane a ground via from ``layer`` goes to: the nearest layer whose role
+        is ``ground`` (else the nearest plane of any kind), or ``None``."""
+        grounds = [i for i, c in enumerate(self.copper) if c.role == "ground" and i != layer]
+        if grounds:
+            return min(grounds, key=lambda p: (abs(p - layer), p))
+        return self.reference_plane(layer)
+
     def via_depth(self, layer: int = 0, plane: int | None = None) -> float | None:
         """Height ``h`` of a ground via from ``layer`` to ``plane`` (default: nearest), m.
 
@@ -137,7 +148,7 @@ class Stackup(BaseModel):
         with 0.19 mm prepreg to layer 2 this is 0.19 mm; for a 1.6 mm two-layer board it
         is the core thickness. ``None`` if the board has no plane.
         """
-        plane = self.reference_plane(layer) if plane is None else plane
+        plane = self.ground_plane(layer) if plane is None else plane
         if plane is None:
             return None
         return self.dielectric_between(layer, plane) + float(
@@ -162,7 +173,8 @@ class Stackup(BaseModel):
                   material: str = "FR-4 core") -> Stackup:
         """A double-sided board: signal on top, ground plane on the bottom."""
         return cls(
-            copper=(Copper(thickness=copper, role="signal"), Copper(thickness=copper, role="plane")),
+            copper=(Copper(thickness=copper, role="signal"),
+                    Copper(thickness=copper, role="ground")),
             dielectrics=(Dielectric(kind="core", material=material, thickness=core, er=er),),
         )
 

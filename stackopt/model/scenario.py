@@ -1,0 +1,217 @@
+"""The scenario: the user's board, circuit, requirements and what the search may vary.
+
+A scenario names no prices; the fab's cost table is a separate file (it may be named here
+with ``cost_table``, relative to the scenario file).
+"""
+
+from __future__ import annotations
+
+from typing import Literal
+
+from pydantic import BaseModel, Field, model_validator
+
+from stackopt.model.circuit import Circuit
+from stackopt.model.fields import (
+    FROZEN,
+    Decibel,
+    Frequency,
+    Impedance,
+    NonNegativeFloat,
+    PositiveLength,
+)
+
+__all__ = [
+    "Board",
+    "Requirement",
+    "ControlledLine",
+    "ThicknessWindow",
+    "SpaceSpec",
+    "SearchSpec",
+    "Scenario",
+    "MITIGATIONS",
+    "Objective",
+]
+
+#: Mitigations the search can switch on per candidate.
+MITIGATIONS = ("via_in_pad", "own_vias", "coplanar")
+Mitigation = Literal["via_in_pad", "own_vias", "coplanar"]
+Objective = Literal["margin", "attenuation", "inductance"]
+ViaModelName = Literal["goldfarb-pucel", "johnson", "rosa", "image"]
+
+
+class Board(BaseModel):
+    """The board outline and the order quantity."""
+
+    model_config = FROZEN
+    width: PositiveLength
+    height: PositiveLength
+    quantity: int = Field(gt=0, le=10_000_000)
+
+
+class Requirement(BaseModel):
+    """A minimum attenuation (|S21| below 0 dB by at least ``min_attenuation``) at one
+    frequency or over a band."""
+
+    model_config = FROZEN
+    name: str | None = None
+    frequency: Frequency | None = None
+    band: tuple[Frequency, Frequency] | None = None
+    min_attenuation: Decibel
+    points: int = Field(21, ge=2, le=401, description="frequencies sampled across a band")
+
+    @model_validator(mode="after")
+    def _one_of(self) -> Requirement:
+        if (self.frequency is None) == (self.band is None):
+            raise ValueError("give either 'frequency' or 'band' (two frequencies), not both "
+                             "or neither")
+        if self.band is not None and not self.band[0] < self.band[1]:
+            raise ValueError("band must be [low, high] with low < high")
+        if self.min_attenuation <= 0:
+            raise ValueError("min_attenuation is a positive number of dB, e.g. '40 dB'")
+        return self
+
+    @property
+    def label(self) -> str:
+        """A short name: the given name, or the frequency/band in Hz."""
+        if self.name:
+            return self.name
+        if self.frequency is not None:
+            return f"{self.frequency:.6g}"
+        assert self.band is not None  # guaranteed by the validator
+        return f"{self.band[0]:.6g}-{self.band[1]:.6g}"
+
+    @property
+    def key(self) -> str:
+        """The frequency in Hz as a string (for a band, its low edge), the summary's key."""
+        f = self.frequency if self.frequency is not None else self.band[0]  # type: ignore[index]
+        return f"{f:.10g}"
+
+
+class ControlledLine(BaseModel):
+    """A controlled-impedance line on the top layer that every candidate must be able to
+    carry with a manufacturable width."""
+
+    model_config = FROZEN
+    name: str
+    type: Literal["microstrip", "cpwg"] = "microstrip"
+    impedance: Impedance
+    max_width: PositiveLength | None = None
+    gap: PositiveLength | None = Field(None, description="CPWG gap to the coplanar ground")
+
+
+class ThicknessWindow(BaseModel):
+    """Allowed finished thickness: ``nominal`` ± ``tolerance`` (fraction), or min/max."""
+
+    model_config = FROZEN
+    nominal: PositiveLength | None = None
+    tolerance: NonNegativeFloat = 0.10
+    min: PositiveLength | None = None
+    max: PositiveLength | None = None
+
+    @model_validator(mode="after")
+    def _check(self) -> ThicknessWindow:
+        if self.nominal is None and (self.min is None or self.max is None):
+            raise ValueError("give 'nominal' (with 'tolerance') or both 'min' and 'max'")
+        lo, hi = self.bounds
+        if not 0 < lo < hi:
+            raise ValueError("thickness window is empty; min must be below max")
+        if self.tolerance >= 1:
+            raise ValueError("tolerance is a fraction, e.g. '10 %' or 0.1")
+        return self
+
+    @property
+    def bounds(self) -> tuple[float, float]:
+        """(min, max) finished thickness, m."""
+        if self.min is not None and self.max is not None:
+            return self.min, self.max
+        assert self.nominal is not None
+        return self.nominal * (1 - self.tolerance), self.nominal * (1 + self.tolerance)
+
+
+class SpaceSpec(BaseModel):
+    """What the search may vary (intersected with what the fab's table offers)."""
+
+    model_config = FROZEN
+    layers: tuple[int, ...] = (2, 4, 6)
+    thickness: ThicknessWindow | None = None
+    symmetric: bool = True
+    copper: tuple[PositiveLength, ...] = (34.3e-6,)
+    drills: tuple[PositiveLength, ...] = (0.3e-3,)
+    vias_per_ground: tuple[int, ...] = (1,)
+    via_pitch: PositiveLength = 0.8e-3
+    max_plies: int = Field(3, ge=1, le=4, description="prepreg plies per opening, at most")
+    mitigations: tuple[Mitigation, ...] = ()
+
+    @model_validator(mode="after")
+    def _check(self) -> SpaceSpec:
+        for n in self.layers:
+            if n < 2 or n % 2:
+                raise ValueError(f"layer count {n} is not supported; use even counts from 2")
+        for v in self.vias_per_ground:
+            if not 1 <= v <= 16:
+                raise ValueError(f"vias_per_ground {v} is out of range; use 1 to 16")
+        if not (self.layers and self.copper and self.drills and self.vias_per_ground):
+            raise ValueError("layers, copper, drills and vias_per_ground need one value each")
+        if len(set(self.mitigations)) != len(self.mitigations):
+            raise ValueError("a mitigation is listed twice")
+        return self
+
+
+class SearchSpec(BaseModel):
+    """How to search: objective, method, budget, seed."""
+
+    model_config = FROZEN
+    objective: Objective = "margin"
+    at: Frequency | None = Field(None, description="frequency for objective 'attenuation'")
+    third_objective: Literal["lead_time"] | None = None
+    method: Literal["auto", "exact", "nsga2"] = "auto"
+    budget: int = Field(20_000, ge=100, le=10_000_000)
+    seed: int = Field(1, ge=0)
+    via_model: ViaModelName = "goldfarb-pucel"
+
+    @model_validator(mode="after")
+    def _check(self) -> SearchSpec:
+        if self.objective == "attenuation" and self.at is None:
+            raise ValueError("objective 'attenuation' needs 'at: <frequency>'")
+        return self
+
+
+class Scenario(BaseModel):
+    """Everything the user states about the job (no prices)."""
+
+    model_config = FROZEN
+    name: str = Field(min_length=1, max_length=200)
+    description: str = ""
+    invented: bool = Field(False, description="true for demo data that is made up")
+    cost_table: str | None = Field(None, description="path, relative to this file")
+    board: Board
+    circuit: Circuit
+    requirements: tuple[Requirement, ...] = ()
+    lines: tuple[ControlledLine, ...] = ()
+    space: SpaceSpec = SpaceSpec()
+    search: SearchSpec = SearchSpec()
+
+    @model_validator(mode="after")
+    def _check(self) -> Scenario:
+        if self.search.objective == "margin" and not self.requirements:
+            raise ValueError("objective 'margin' needs at least one entry in 'requirements'")
+        names = [r.label for r in self.requirements]
+        if len(set(names)) != len(names):
+            raise ValueError("two requirements have the same frequency or name; merge them")
+        return self
+
+    @property
+    def frequencies(self) -> tuple[float, ...]:
+        """Every frequency the requirements sample, sorted, Hz."""
+        import numpy as np
+
+        fs: list[float] = []
+        for r in self.requirements:
+            if r.frequency is not None:
+                fs.append(r.frequency)
+            else:
+                lo, hi = r.band  # type: ignore[misc]
+                fs.extend(np.geomspace(lo, hi, r.points).tolist())
+        if self.search.at is not None:
+            fs.append(self.search.at)
+        return tuple(sorted(set(fs)))

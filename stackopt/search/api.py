@@ -1,0 +1,129 @@
+"""``stackopt.optimize``: the library entry point of the search."""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Callable
+from pathlib import Path
+from typing import Literal
+
+import numpy as np
+
+from stackopt.errors import InputError
+from stackopt.model.costtable import CostTable
+from stackopt.model.scenario import Scenario
+from stackopt.physics.inductance import VIA_MODELS
+from stackopt.search.exact import exact_candidates, exact_work
+from stackopt.search.problem import Problem
+from stackopt.search.results import Result
+
+__all__ = ["optimize", "EXACT_WORK_LIMIT"]
+
+#: Above this many priced (head x thickness state) totals, "auto" uses NSGA-II.
+EXACT_WORK_LIMIT = 2e8
+
+Method = Literal["auto", "exact", "nsga2"]
+
+
+def _load(scenario: Scenario | str | Path, cost_table: CostTable | str | Path | None):
+    from stackopt.inputs.costtable import load_cost_table
+    from stackopt.inputs.scenario import load_scenario, scenario_cost_table
+
+    if not isinstance(scenario, Scenario):
+        path = Path(scenario)
+        scenario = load_scenario(path)
+        if cost_table is None:
+            cost_table = scenario_cost_table(scenario, path)
+    if cost_table is None:
+        raise InputError("no cost table given", key="cost_table",
+                         fix="pass cost_table=... or name one in the scenario's 'cost_table'")
+    if not isinstance(cost_table, CostTable):
+        cost_table = load_cost_table(cost_table)
+    return scenario, cost_table
+
+
+def optimize(
+    scenario: Scenario | str | Path,
+    cost_table: CostTable | str | Path | None = None,
+    *,
+    seed: int | None = None,
+    method: Method | None = None,
+    budget: int | None = None,
+    progress: Callable[[int, int], None] | None = None,
+) -> Result:
+    """Search the scenario's design space priced by ``cost_table``.
+
+    Parameters
+    ----------
+    scenario, cost_table
+        Models, or paths to YAML files (the cost table may be named in the scenario).
+    seed
+        Seed of the evolutionary search (default: the scenario's ``search.seed``).
+    method
+        ``"exact"`` (pruned, exact front), ``"nsga2"``, or ``"auto"`` (exact wherever it
+        finishes in time; default: the scenario's ``search.method``).
+    budget
+        Evaluations for NSGA-II (default: the scenario's ``search.budget``).
+    progress
+        Called as ``progress(done, total)`` during NSGA-II.
+
+    Returns
+    -------
+    Result
+        Its ``to_summary()`` is the JSON contract.
+    """
+    scenario, cost_table = _load(scenario, cost_table)
+    sp = scenario.search
+    seed = sp.seed if seed is None else int(seed)
+    method = method or sp.method
+    budget = sp.budget if budget is None else int(budget)
+    if method not in ("auto", "exact", "nsga2"):
+        raise InputError(f"unknown method {method!r}", key="method",
+                         fix="use auto, exact or nsga2")
+    problem = Problem(scenario, cost_table)
+    if not problem.space.arrangements or not problem.space.drills:
+        raise InputError("the design space is empty: no layer count or drill of the scenario "
+                         "is offered by the fab", key="space",
+                         fix="allow layer counts and drills that the cost table prices")
+    t0 = time.perf_counter()
+    work = exact_work(problem)
+    if method == "auto":
+        method = "exact" if (work <= EXACT_WORK_LIMIT and sp.third_objective is None
+                             or work <= EXACT_WORK_LIMIT / 10) else "nsga2"
+    stats: dict = {"exact_work_estimate": int(work)}
+    if method == "exact":
+        plan = exact_candidates(problem)
+        cands = plan.representatives
+        stats.update(dp_states=plan.states, thickness_totals_priced=plan.priced)
+        evaluated = len(cands)
+    else:
+        from stackopt.search.nsga2 import run_nsga2
+
+        archive = run_nsga2(problem, budget, seed,
+                            on_eval=(lambda k, _t=[0]: (_t.__setitem__(0, _t[0] + k),
+                                                        progress(_t[0], budget))[0])
+                            if progress else None)
+        cands = archive.candidates(problem.space.n_slots)
+        evaluated = archive.evaluations
+    ev = problem.evaluate(cands)
+    stats["seconds_search"] = round(time.perf_counter() - t0, 3)
+    result = Result(problem, cands, ev, method, evaluated, seed, stats=stats)
+    # model spread: the front and the picks re-scored under every via model
+    keep = np.zeros(len(cands), dtype=bool)
+    keep[result.on_front] = True
+    for v in result.picks.values():
+        if v is not None:
+            keep[v] = True
+    idx = np.flatnonzero(keep)
+    spread = {}
+    sub = cands.take(idx)
+    g = problem.space.geometry(sub)
+    from stackopt.circuit.metrics import attenuation_db
+
+    for m in VIA_MODELS:
+        s, _ = problem.response(g, m)
+        _, margin = problem.attenuation(attenuation_db(s))
+        full = np.full(len(cands), np.nan)
+        full[idx] = margin
+        spread[m] = full
+    return Result(problem, cands, ev, method, evaluated, seed, spread=spread, stats=stats)

@@ -1,0 +1,260 @@
+"""One search problem: scenario + fab table → design space and a batched evaluator.
+
+:meth:`Problem.evaluate` takes a batch of :class:`~stackopt.search.space.Candidates` and
+returns arrays of every metric. Electrical work is done once per unique *phenotype* (ground
+via height, drill, vias per connection, copper, mitigations) and broadcast back; every
+candidate is priced.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import cached_property
+
+import numpy as np
+
+from stackopt.circuit import GroundBatch, compile_circuit, ground_inductance_matrix, solve
+from stackopt.circuit.metrics import attenuation_db
+from stackopt.cost import PriceBatch, price
+from stackopt.model.costtable import BoardOrder, CostTable
+from stackopt.model.scenario import Scenario
+from stackopt.physics.coplanar import cpwg
+from stackopt.physics.lines import microstrip
+from stackopt.physics.synthesis import synthesize_width
+from stackopt.search.space import Candidates, DielectricOptions, Geometry, Space
+
+__all__ = ["Problem", "Evaluation", "dielectric_options"]
+
+#: Width range searched when synthesizing controlled-impedance traces, m.
+WIDTH_RANGE = (20e-6, 10e-3)
+
+
+def dielectric_options(table: CostTable, max_plies: int) -> dict[str, DielectricOptions]:
+    """The fab's stocked dielectrics as slot options: prepreg openings of 1..``max_plies``
+    plies of one glass style, and cores; options thinner than the fab's minimum
+    dielectric are left out (the search only uses what the fab can build)."""
+    items = table.materials_list()
+    t_min = table.capabilities.min_dielectric * (1 - 1e-9)
+    rows: dict[str, list[tuple]] = {"prepreg": [], "core": []}
+    for k, it in enumerate(items):
+        plies = range(1, max_plies + 1) if it.kind == "prepreg" else (1,)
+        for p in plies:
+            t = it.thickness * p
+            if t < t_min:
+                continue
+            label = f"{it.glass or it.id} x{p}" if it.kind == "prepreg" else it.id
+            rows[it.kind].append((round(t, 12), label, t, it.dk, it.df, k, p))
+    out = {}
+    for kind, rs in rows.items():
+        rs.sort(key=lambda r: (r[0], r[1]))
+        out[kind] = DielectricOptions(
+            kind=kind, names=tuple(r[1] for r in rs),
+            thickness=np.array([r[2] for r in rs], dtype=float),
+            er=np.array([r[3] for r in rs], dtype=float),
+            df=np.array([r[4] for r in rs], dtype=float),
+            material=np.array([r[5] for r in rs], dtype=np.int64),
+            count=np.array([r[6] for r in rs], dtype=np.int64))
+    return out
+
+
+@dataclass(frozen=True)
+class Evaluation:
+    """Metrics of a batch (arrays over N candidates)."""
+
+    unit_cost: np.ndarray
+    lot_cost: np.ndarray
+    lead_time_days: np.ndarray
+    attenuation: np.ndarray  # (N, R) dB per requirement (worst over a band)
+    attenuation_f: np.ndarray  # (N, F) dB at every sampled frequency (Problem.freqs)
+    margin: np.ndarray  # (N,) dB, min over requirements of attenuation - required
+    inductance: np.ndarray  # (N,) H, sum of the ground connections' self inductance
+    widths: np.ndarray  # (N, lines) m, NaN where no width reaches the target
+    violations: dict[str, np.ndarray]  # name -> (N,) >= 0
+    geometry: Geometry
+
+    @property
+    def feasible(self) -> np.ndarray:
+        """No constraint violated."""
+        v = np.zeros(len(self.unit_cost), dtype=bool)
+        for a in self.violations.values():
+            v |= a > 0
+        return ~v
+
+    def violated(self, i: int) -> list[str]:
+        """Names of the constraints candidate ``i`` violates, with by how much."""
+        return [f"{k} (+{a[i]:.3g})" for k, a in self.violations.items() if a[i] > 0]
+
+
+@dataclass(frozen=True, eq=False)
+class Problem:
+    """A scenario priced by one fab."""
+
+    scenario: Scenario
+    table: CostTable
+
+    @cached_property
+    def space(self) -> Space:
+        """The design space for this scenario and fab."""
+        items = self.table.materials_list()
+        return Space.build(
+            self.scenario,
+            dielectric_options(self.table, self.scenario.space.max_plies),
+            n_materials=len(items), material_names=tuple(i.id for i in items),
+            max_layers=self.table.max_layers, min_drill=self.table.capabilities.min_drill)
+
+    @cached_property
+    def order(self) -> BoardOrder:
+        """Board outline and quantity, as the cost module takes them."""
+        b = self.scenario.board
+        return BoardOrder(width=b.width, height=b.height, quantity=b.quantity)
+
+    @cached_property
+    def compiled(self):
+        """The scenario's circuit, compiled once."""
+        return compile_circuit(self.scenario.circuit)
+
+    @cached_property
+    def freqs(self) -> np.ndarray:
+        """Frequencies the requirements sample, Hz."""
+        fs = self.scenario.frequencies
+        return np.asarray(fs if fs else (1e9,), dtype=float)
+
+    @cached_property
+    def requirement_index(self) -> list[np.ndarray]:
+        """For each requirement, the indices of :attr:`freqs` it covers."""
+        out = []
+        for r in self.scenario.requirements:
+            if r.frequency is not None:
+                out.append(np.flatnonzero(np.isclose(self.freqs, r.frequency, rtol=1e-12)))
+            else:
+                lo, hi = r.band  # type: ignore[misc]
+                out.append(np.flatnonzero((self.freqs >= lo * (1 - 1e-12))
+                                          & (self.freqs <= hi * (1 + 1e-12))))
+        return out
+
+    @cached_property
+    def required(self) -> np.ndarray:
+        """Required attenuation per requirement, dB."""
+        return np.array([r.min_attenuation for r in self.scenario.requirements], dtype=float)
+
+    # ---- electrical work, once per phenotype -----------------------------------------
+    def ground_batch(self, g: Geometry) -> GroundBatch:
+        """The circuit's view of a batch: ground-via height, drill, vias and switches."""
+        n = len(g.depth)
+        off = np.zeros(n, dtype=bool)
+        return GroundBatch(height=g.depth, drill=g.drill, vias=g.vias,
+                           via_in_pad=g.flags.get("via_in_pad", off),
+                           own_vias=g.flags.get("own_vias", off) | g.flags.get("coplanar", off),
+                           copper=g.copper)
+
+    def phenotype(self, g: Geometry) -> np.ndarray:
+        """The numbers the electrical response depends on, one row per candidate."""
+        n = len(g.depth)
+        cols = [np.round(g.depth * 1e9), np.round(g.drill * 1e9), g.vias,
+                np.round(g.copper * 1e9)]
+        cols += [g.flags[m].astype(float) for m in ("via_in_pad", "own_vias", "coplanar")
+                 if m in g.flags]
+        return np.column_stack(cols) if n else np.zeros((0, len(cols)))
+
+    def response(self, g: Geometry, model: str | None = None) -> tuple[np.ndarray, np.ndarray]:
+        """(S (N, F, 2, 2), ground inductance sum (N,)) computed per unique phenotype."""
+        model = model or self.scenario.search.via_model
+        ph = self.phenotype(g)
+        _, first, inv = np.unique(ph, axis=0, return_index=True, return_inverse=True)
+        inv = inv.reshape(-1)
+        gb = self.ground_batch(g)
+        sub = GroundBatch(**{k: np.asarray(getattr(gb, k))[first] for k in
+                             ("height", "drill", "vias", "via_in_pad", "own_vias", "copper")})
+        s = solve(self.compiled, self.freqs, sub, model)
+        lmat = ground_inductance_matrix(self.compiled, sub, model)
+        lsum = np.trace(lmat, axis1=-2, axis2=-1) if lmat.shape[-1] else np.zeros(len(first))
+        return s[inv], lsum[inv]
+
+    def attenuation(self, att_f: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(attenuation per requirement (N, R), margin (N,)) from attenuation per frequency."""
+        n = att_f.shape[0]
+        if not self.scenario.requirements:
+            return np.zeros((n, 0)), np.zeros(n)
+        att = np.column_stack([att_f[:, idx].min(axis=1) for idx in self.requirement_index])
+        margin = (att - self.required[None, :]).min(axis=1)
+        return att, margin
+
+    def objectives(self, ev: Evaluation) -> np.ndarray:
+        """Objectives to minimise, (N, 2 or 3): unit cost, then the electrical objective
+        (negative margin, negative attenuation at ``search.at``, or ground inductance), then
+        lead time if asked for."""
+        obj = self.scenario.search.objective
+        if obj == "margin":
+            perf = -ev.margin
+        elif obj == "attenuation":
+            k = int(np.argmin(np.abs(self.freqs - self.scenario.search.at)))
+            perf = -ev.attenuation_f[:, k]
+        else:
+            perf = ev.inductance * 1e9  # nH
+        cols = [ev.unit_cost, perf]
+        if self.scenario.search.third_objective == "lead_time":
+            cols.append(ev.lead_time_days.astype(float))
+        return np.column_stack(cols)
+
+    def line_widths(self, g: Geometry) -> np.ndarray:
+        """Width of every controlled-impedance line on each candidate (NaN: unreachable)."""
+        lines = self.scenario.lines
+        n = len(g.depth)
+        out = np.full((n, len(lines)), np.nan)
+        cop = g.flags.get("coplanar", np.zeros(n, dtype=bool))
+        for j, ln in enumerate(lines):
+            gap = ln.gap if ln.gap is not None else 0.2e-3
+            use_cpw = cop | (ln.type == "cpwg")
+            w_ms, ok_ms = synthesize_width(ln.impedance, g.ref_height, g.ref_er, g.copper,
+                                           kind="microstrip", w_min=WIDTH_RANGE[0],
+                                           w_max=WIDTH_RANGE[1])
+            w_cp, ok_cp = synthesize_width(ln.impedance, g.ref_height, g.ref_er, g.copper,
+                                           kind="cpwg", w_min=WIDTH_RANGE[0],
+                                           w_max=WIDTH_RANGE[1], gap=gap)
+            w = np.where(use_cpw, w_cp, w_ms)
+            ok = np.where(use_cpw, ok_cp, ok_ms)
+            out[:, j] = np.where(ok, w, np.nan)
+        return out
+
+    # ---- everything ------------------------------------------------------------------
+    def price_batch(self, g: Geometry, min_trace: np.ndarray) -> PriceBatch:
+        """What the fab prices for a batch."""
+        n = len(g.depth)
+        off = np.zeros(n, dtype=bool)
+        return PriceBatch.broadcast(
+            n, layers=g.layers, material_counts=g.material_counts, copper=g.copper,
+            inner_copper=g.copper, min_drill=g.drill, thickness=g.thickness,
+            min_dielectric=g.min_dielectric, min_trace=min_trace,
+            via_in_pad=g.flags.get("via_in_pad", off),
+            impedance_control=np.full(n, bool(self.scenario.lines)))
+
+    def evaluate(self, c: Candidates, model: str | None = None) -> Evaluation:
+        """Every metric and constraint of a batch."""
+        g = self.space.geometry(c)
+        n = len(c)
+        s, lsum = self.response(g, model)
+        att_f = attenuation_db(s)
+        att, margin = self.attenuation(att_f)
+        widths = self.line_widths(g)
+        with np.errstate(invalid="ignore"):
+            min_trace = np.nanmin(np.where(np.isnan(widths), np.inf, widths), axis=1,
+                                  initial=np.inf) if widths.shape[1] else np.full(n, np.nan)
+        min_trace = np.where(np.isfinite(min_trace), min_trace, np.nan)
+        pr = price(self.table, self.order, self.price_batch(g, min_trace))
+        viol = dict(pr.violations)
+        win = self.scenario.space.thickness
+        if win is not None:
+            lo, hi = win.bounds
+            viol["thickness_window"] = np.maximum(lo - g.thickness, 0) / lo + np.maximum(
+                g.thickness - hi, 0) / hi
+        for j, ln in enumerate(self.scenario.lines):
+            viol[f"line_{ln.name}_unreachable"] = np.isnan(widths[:, j]).astype(float)
+            if ln.max_width is not None:
+                viol[f"line_{ln.name}_too_wide"] = np.maximum(
+                    np.nan_to_num(widths[:, j], nan=0.0) - ln.max_width, 0) / ln.max_width
+        viol["circuit_nonfinite"] = (~np.isfinite(margin)).astype(float)
+        margin = np.nan_to_num(margin, nan=-999.0, posinf=999.0, neginf=-999.0)
+        return Evaluation(unit_cost=pr.unit_cost, lot_cost=pr.lot_cost,
+                          lead_time_days=pr.lead_time_days, attenuation=att,
+                          attenuation_f=att_f, margin=margin,
+                          inductance=lsum, widths=widths, violations=viol, geometry=g)

@@ -1,0 +1,230 @@
+"""The search's answer: one table of evaluated candidates, the front, the named picks and
+the JSON-ready summary (the contract the report, exports and users' scripts rely on)."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from functools import cached_property
+
+import numpy as np
+import pandas as pd
+
+from stackopt import __version__
+from stackopt.search.front import nondominated
+from stackopt.search.problem import Evaluation, Problem
+from stackopt.search.space import Candidates, candidate_stackup
+
+__all__ = ["Result", "PICKS"]
+
+#: Named picks, in the order they are reported.
+PICKS = ("cheapest_meeting_requirements", "cheapest_two_layer", "best_two_layer",
+         "best_overall")
+
+
+def _num(x: float | np.floating) -> float | None:
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+@dataclass(frozen=True, eq=False)
+class Result:
+    """Evaluated candidates of one search (row ``i`` of every array is candidate ``i``)."""
+
+    problem: Problem
+    candidates: Candidates
+    evaluation: Evaluation
+    method: str
+    evaluated: int
+    seed: int
+    spread: dict[str, np.ndarray] = field(default_factory=dict)  # via model -> margin
+    stats: dict = field(default_factory=dict)
+
+    # ---- basic views -------------------------------------------------------------------
+    @property
+    def n(self) -> int:
+        """Candidates evaluated and kept."""
+        return len(self.candidates)
+
+    @property
+    def space_size(self) -> int:
+        """Stackups in the design space."""
+        return self.problem.space.size
+
+    @cached_property
+    def ids(self) -> list[str]:
+        """Stable candidate ids (evaluation order)."""
+        return [f"C{i + 1:05d}" for i in range(self.n)]
+
+    @cached_property
+    def feasible(self) -> np.ndarray:
+        """Meets every fab and scenario constraint (not necessarily the requirements)."""
+        return self.evaluation.feasible
+
+    @cached_property
+    def meets(self) -> np.ndarray:
+        """Feasible and every attenuation requirement met."""
+        return self.feasible & (self.evaluation.margin >= 0)
+
+    @cached_property
+    def objectives(self) -> np.ndarray:
+        """Objectives minimised by the search (N, k)."""
+        return self.problem.objectives(self.evaluation)
+
+    @cached_property
+    def on_front(self) -> np.ndarray:
+        """Non-dominated among every feasible candidate evaluated."""
+        mask = np.zeros(self.n, dtype=bool)
+        idx = np.flatnonzero(self.feasible)
+        mask[idx[nondominated(self.objectives[idx])]] = True
+        return mask
+
+    @cached_property
+    def front_order(self) -> np.ndarray:
+        """Front members by increasing unit cost."""
+        idx = np.flatnonzero(self.on_front)
+        return idx[np.lexsort((self.objectives[idx, 1], self.evaluation.unit_cost[idx]))]
+
+    def _best(self, mask: np.ndarray, by: str) -> int | None:
+        idx = np.flatnonzero(mask)
+        if not len(idx):
+            return None
+        ev = self.evaluation
+        if by == "cost":  # cheapest; ties by better electrical objective, then id
+            order = np.lexsort((idx, self.objectives[idx, 1], ev.unit_cost[idx]))
+        else:  # best electrical objective; ties by cost
+            order = np.lexsort((idx, ev.unit_cost[idx], self.objectives[idx, 1]))
+        return int(idx[order[0]])
+
+    @cached_property
+    def picks(self) -> dict[str, int | None]:
+        """Index of each named pick (``None`` when nothing qualifies)."""
+        two = self.evaluation.geometry.layers == 2
+        return {
+            "cheapest_meeting_requirements": self._best(self.meets, "cost"),
+            "cheapest_two_layer": self._best(self.feasible & two, "cost"),
+            "best_two_layer": self._best(self.feasible & two, "perf"),
+            "best_overall": self._best(self.feasible, "perf"),
+        }
+
+    def closest(self, k: int = 3) -> list[int]:
+        """The ``k`` feasible candidates nearest to meeting the requirements (best margin)."""
+        idx = np.flatnonzero(self.feasible)
+        order = np.lexsort((self.evaluation.unit_cost[idx], -self.evaluation.margin[idx]))
+        return [int(i) for i in idx[order[:k]]]
+
+    def stackup(self, i: int):
+        """The stackup of candidate ``i``."""
+        return candidate_stackup(self.problem.space, self.candidates, i)
+
+    # ---- records -----------------------------------------------------------------------
+    def record(self, i: int) -> dict:
+        """Candidate ``i`` as a JSON-ready dict (the summary's candidate record)."""
+        ev, g, sc = self.evaluation, self.evaluation.geometry, self.problem.scenario
+        desc = self.problem.space.describe(self.candidates, i)
+        att = {r.key: _num(ev.attenuation[i, k]) for k, r in enumerate(sc.requirements)}
+        st = self.stackup(i)
+        layers = []
+        for rec in st.to_records():
+            layer = {"kind": rec["kind"], "material": rec["material"],
+                     "thickness_m": _num(rec["thickness_m"])}
+            if rec["kind"] == "copper":
+                layer["role"] = rec["role"]
+            else:
+                layer["er"] = _num(rec["er"])
+                layer["df"] = _num(rec["df"])
+            layers.append(layer)
+        out = {
+            "id": self.ids[i],
+            "layers": int(g.layers[i]),
+            "arrangement": desc["arrangement"],
+            "thickness_m": _num(g.thickness[i]),
+            "ground_plane_depth_m": _num(g.depth[i]),
+            "top_dielectric": desc["materials"][0],
+            "er_top": _num(g.ref_er[i]),
+            "copper_m": _num(desc["copper_m"]),
+            "drill_m": _num(desc["drill_m"]),
+            "vias_per_ground": int(desc["vias"]),
+            "mitigations": [m for m in self.problem.space.mitigations if desc[m]],
+            "unit_cost": _num(ev.unit_cost[i]),
+            "lot_cost": _num(ev.lot_cost[i]),
+            "lead_time_days": _num(ev.lead_time_days[i]),
+            "margin_dB": _num(ev.margin[i]),
+            "meets_requirements": bool(self.meets[i]),
+            "feasible": bool(self.feasible[i]),
+            "violations": self.evaluation.violated(i),
+            "attenuation_dB": att,
+            "ground_inductance_H": _num(ev.inductance[i]),
+            "line_widths_m": {ln.name: _num(ev.widths[i, j]) for j, ln in enumerate(sc.lines)},
+            "stackup": layers,
+        }
+        if self.spread:
+            out["margin_by_model_dB"] = {m: _num(v[i]) for m, v in self.spread.items()}
+        return out
+
+    @cached_property
+    def table(self) -> pd.DataFrame:
+        """Every evaluated candidate, one row each, with every metric and the front flag."""
+        ev, g, sc, sp = self.evaluation, self.evaluation.geometry, self.problem.scenario, \
+            self.problem.space
+        c = self.candidates
+        arr_names = np.array([a.name for a in sp.arrangements])
+        mats = []
+        for i in range(self.n):  # strings for people; numbers stay vectorized below
+            mats.append(" / ".join(sp.describe(c, i)["materials"]))
+        cols: dict[str, object] = {
+            "id": self.ids,
+            "layers": g.layers,
+            "arrangement": arr_names[c.arr],
+            "materials": mats,
+            "thickness_m": g.thickness,
+            "ground_plane_depth_m": g.depth,
+            "er_top": g.ref_er,
+            "copper_m": g.copper,
+            "drill_m": g.drill,
+            "vias_per_ground": g.vias,
+        }
+        for m in sp.mitigations:
+            cols[m] = g.flags[m]
+        cols.update({
+            "unit_cost": ev.unit_cost, "lot_cost": ev.lot_cost,
+            "lead_time_days": ev.lead_time_days, "margin_dB": ev.margin,
+            "ground_inductance_H": ev.inductance,
+        })
+        for k, r in enumerate(sc.requirements):
+            cols[f"attenuation_dB_{r.key}Hz"] = ev.attenuation[:, k]
+        for j, ln in enumerate(sc.lines):
+            cols[f"width_{ln.name}_m"] = ev.widths[:, j]
+        cols["feasible"] = self.feasible
+        cols["meets_requirements"] = self.meets
+        cols["violations"] = ["; ".join(ev.violated(i)) for i in range(self.n)]
+        cols["on_front"] = self.on_front
+        return pd.DataFrame(cols)
+
+    def to_summary(self, extra: dict | None = None) -> dict:
+        """The JSON-ready summary (see the README for the contract)."""
+        sc, table = self.problem.scenario, self.problem.table
+        out = {
+            "scenario": sc.name,
+            "fab": table.fab,
+            "currency": table.currency,
+            "quantity": sc.board.quantity,
+            "method": self.method,
+            "seed": self.seed,
+            "version": __version__,
+            "objective": sc.search.objective,
+            "via_model": sc.search.via_model,
+            "space_size": int(self.space_size),
+            "evaluated": int(self.evaluated),
+            "requirements": [{"key": r.key, "label": r.label,
+                              "min_attenuation_dB": r.min_attenuation}
+                             for r in sc.requirements],
+            "front": [self.record(int(i)) for i in self.front_order],
+            "picks": {k: (None if v is None else self.record(v))
+                      for k, v in self.picks.items()},
+            "stats": {k: (int(v) if isinstance(v, int | np.integer) else v)
+                      for k, v in self.stats.items()},
+        }
+        if extra:
+            out.update(extra)
+        return out

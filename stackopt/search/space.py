@@ -1,0 +1,339 @@
+"""The design space: which stackups the fab can build for this scenario, and their encoding.
+
+A candidate is a row of small integers (:class:`Candidates`): an *arrangement* (layer count
+and the role of every copper layer), one catalogue option per dielectric slot, and indices
+into the scenario's copper weights, drills, vias-per-ground-connection and mitigation
+switches. :meth:`Space.geometry` turns a batch of rows into arrays of geometry without a
+Python loop over candidates.
+
+Construction (common practice, no source): foil lamination — the outer dielectrics are
+prepreg, inner ones alternate core / prepreg; a two-layer board is one core. A prepreg
+opening is 1..``max_plies`` plies of one glass style.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from functools import cached_property
+
+import numpy as np
+
+from stackopt.model.scenario import MITIGATIONS, Scenario
+
+__all__ = ["Arrangement", "DielectricOptions", "Candidates", "Geometry", "Space", "arrangements"]
+
+
+@dataclass(frozen=True)
+class DielectricOptions:
+    """The choices for one kind of dielectric slot, sorted by thickness."""
+
+    kind: str
+    names: tuple[str, ...]
+    thickness: np.ndarray
+    er: np.ndarray
+    df: np.ndarray
+    material: np.ndarray  # catalogue index of the material used
+    count: np.ndarray  # plies (prepreg) or 1 (core)
+
+    def __len__(self) -> int:
+        return len(self.names)
+
+
+@dataclass(frozen=True)
+class Arrangement:
+    """Layer count and roles; which slots a gene sets; where the ground plane is."""
+
+    name: str
+    roles: tuple[str, ...]
+    symmetric: bool
+
+    @property
+    def n_layers(self) -> int:
+        """Copper layers."""
+        return len(self.roles)
+
+    @property
+    def slot_kinds(self) -> tuple[str, ...]:
+        """'prepreg' or 'core' for each dielectric slot, top to bottom."""
+        n = self.n_layers
+        if n == 2:
+            return ("core",)
+        return tuple("prepreg" if i % 2 == 0 else "core" for i in range(n - 1))
+
+    @property
+    def ground(self) -> int:
+        """0-based copper index of the ground plane that the top layer's vias reach."""
+        return next(i for i, r in enumerate(self.roles) if r == "ground")
+
+    @property
+    def genes(self) -> tuple[tuple[int, ...], ...]:
+        """Slot indices each gene sets (a mirrored pair in symmetric constructions)."""
+        s = self.n_layers - 1
+        if not self.symmetric:
+            return tuple((i,) for i in range(s))
+        pairs = [(i, s - 1 - i) for i in range(s // 2)]
+        if s % 2:
+            pairs.append((s // 2,))
+        return tuple(pairs)
+
+    @property
+    def head(self) -> tuple[int, ...]:
+        """Genes that set the depth from the top copper to the ground plane."""
+        return tuple(k for k, slots in enumerate(self.genes) if min(slots) < self.ground)
+
+
+def _roles(code: str) -> tuple[str, ...]:
+    names = {"S": "signal", "G": "ground", "P": "power", "M": "mixed"}
+    return tuple(names[c] for c in code.split("-"))
+
+
+#: Arrangements offered per layer count (top layer carries the components and RF lines).
+ARRANGEMENT_CODES: dict[int, tuple[str, ...]] = {
+    2: ("S-G",),
+    4: ("S-G-P-S", "S-G-G-S", "S-P-G-S"),
+    6: ("S-G-S-S-P-S", "S-G-S-P-G-S"),
+    8: ("S-G-S-G-P-S-G-S",),
+}
+
+
+def arrangements(n: int, symmetric: bool) -> tuple[Arrangement, ...]:
+    """The arrangements offered for ``n`` copper layers."""
+    codes = ARRANGEMENT_CODES.get(n)
+    if codes is None:  # 10 and more: S-G then alternate signal / plane, end G-S
+        inner = ["S" if i % 2 == 0 else ("P" if i % 4 == 1 else "G") for i in range(n - 4)]
+        codes = ("-".join(["S", "G", *inner, "G", "S"]),)
+    return tuple(Arrangement(c, _roles(c), symmetric) for c in codes)
+
+
+@dataclass(frozen=True)
+class Candidates:
+    """A batch of N candidates as integer choices (see module docstring)."""
+
+    arr: np.ndarray  # (N,) arrangement index
+    slot: np.ndarray  # (N, S) option index per dielectric slot, -1 where the board has none
+    copper: np.ndarray  # (N,)
+    drill: np.ndarray  # (N,)
+    vias: np.ndarray  # (N,)
+    mit: np.ndarray  # (N, len(space.mitigations)) bool
+
+    def __len__(self) -> int:
+        return len(self.arr)
+
+    def matrix(self) -> np.ndarray:
+        """All choices side by side as one int array (N, columns): a board's identity."""
+        return np.column_stack([self.arr, self.slot, self.copper, self.drill, self.vias,
+                                self.mit.astype(np.int64)]).astype(np.int64)
+
+    @classmethod
+    def from_matrix(cls, m: np.ndarray, n_slots: int) -> Candidates:
+        """Inverse of :meth:`matrix`."""
+        m = np.asarray(m, dtype=np.int64)
+        s = 1 + n_slots
+        return cls(arr=m[:, 0], slot=m[:, 1:s], copper=m[:, s], drill=m[:, s + 1],
+                   vias=m[:, s + 2], mit=m[:, s + 3:].astype(bool))
+
+    def take(self, idx: np.ndarray) -> Candidates:
+        """The rows ``idx``."""
+        return Candidates(self.arr[idx], self.slot[idx], self.copper[idx], self.drill[idx],
+                          self.vias[idx], self.mit[idx])
+
+    @staticmethod
+    def concat(parts: list[Candidates]) -> Candidates:
+        """Rows of several batches, in order."""
+        return Candidates(*(np.concatenate([getattr(p, f) for p in parts])
+                            for f in ("arr", "slot", "copper", "drill", "vias", "mit")))
+
+
+@dataclass(frozen=True)
+class Geometry:
+    """Arrays of geometry for a batch (SI units)."""
+
+    layers: np.ndarray
+    slot_t: np.ndarray  # (N, S) dielectric thickness, 0 where unused
+    slot_er: np.ndarray  # (N, S)
+    copper: np.ndarray  # (N,) copper thickness of every layer
+    thickness: np.ndarray  # (N,) finished thickness
+    depth: np.ndarray  # (N,) top copper to its ground plane: the ground-via height h
+    ref_height: np.ndarray  # (N,) dielectric under the top trace to its nearest plane
+    ref_er: np.ndarray  # (N,)
+    min_dielectric: np.ndarray  # (N,)
+    drill: np.ndarray
+    vias: np.ndarray  # (N,) int
+    material_counts: np.ndarray  # (N, M) plies / cores per catalogue item
+    flags: dict[str, np.ndarray] = field(default_factory=dict)  # mitigation -> (N,) bool
+
+
+@dataclass(frozen=True)
+class Space:
+    """All stackups the search may visit for one scenario and one fab table."""
+
+    arrangements: tuple[Arrangement, ...]
+    options: dict[str, DielectricOptions]  # 'prepreg', 'core'
+    copper: tuple[float, ...]
+    drills: tuple[float, ...]
+    vias: tuple[int, ...]
+    mitigations: tuple[str, ...]
+    n_materials: int
+    material_names: tuple[str, ...]
+
+    @classmethod
+    def build(cls, scenario: Scenario, catalogue: dict[str, DielectricOptions],
+              n_materials: int, material_names: tuple[str, ...], max_layers: int,
+              min_drill: float) -> Space:
+        """The scenario's space limited by the fab (layer count, drill)."""
+        sp = scenario.space
+        counts = sorted({n for n in sp.layers if n <= max_layers})
+        drills = tuple(d for d in sp.drills if d >= min_drill * (1 - 1e-9))
+        arrs = tuple(a for n in counts for a in arrangements(n, sp.symmetric))
+        mits = tuple(m for m in MITIGATIONS if m in sp.mitigations)
+        return cls(arrs, catalogue, tuple(sp.copper), drills, tuple(sp.vias_per_ground),
+                   mits, n_materials, material_names)
+
+    @cached_property
+    def n_slots(self) -> int:
+        """Dielectric slots of the thickest board."""
+        return max(a.n_layers for a in self.arrangements) - 1
+
+    @cached_property
+    def layer_counts(self) -> np.ndarray:
+        """Copper layer count of each arrangement."""
+        return np.array([a.n_layers for a in self.arrangements])
+
+    def gene_options(self, a: Arrangement) -> list[int]:
+        """Number of options of each gene of arrangement ``a``."""
+        return [len(self.options[a.slot_kinds[g[0]]]) for g in a.genes]
+
+    def arrangement_size(self, a: Arrangement) -> int:
+        """Stackups in the space with arrangement ``a`` (all other choices included)."""
+        n = int(np.prod(self.gene_options(a), dtype=np.float64))
+        return n * len(self.copper) * len(self.drills) * len(self.vias) * 2 ** len(
+            self.mitigations)
+
+    @property
+    def size(self) -> int:
+        """Number of distinct stackups in the space."""
+        return int(sum(self.arrangement_size(a) for a in self.arrangements))
+
+    def geometry(self, c: Candidates) -> Geometry:
+        """Geometry of a batch; vectorized over candidates (loops over slots only)."""
+        n = len(c)
+        S = self.n_slots
+        layers = self.layer_counts[c.arr]
+        kind_core = np.zeros((len(self.arrangements), S), dtype=bool)
+        for i, a in enumerate(self.arrangements):
+            kind_core[i, : a.n_layers - 1] = [k == "core" for k in a.slot_kinds]
+        used = c.slot >= 0
+        is_core = kind_core[c.arr] & used
+        t = np.zeros((n, S))
+        er = np.ones((n, S))
+        counts = np.zeros((n, self.n_materials), dtype=np.int64)
+        rows = np.arange(n)
+        for kind, mask in (("core", is_core), ("prepreg", used & ~is_core)):
+            o = self.options[kind]
+            if not len(o):
+                continue
+            idx = np.where(mask, c.slot, 0)
+            t = np.where(mask, o.thickness[idx], t)
+            er = np.where(mask, o.er[idx], er)
+            for s in range(S):
+                m = mask[:, s]
+                np.add.at(counts, (rows[m], o.material[idx[m, s]]), o.count[idx[m, s]])
+        cu = np.asarray(self.copper)[c.copper]
+        thickness = t.sum(axis=1) + layers * cu
+        ground = np.array([a.ground for a in self.arrangements])[c.arr]
+        above = np.arange(S)[None, :] < ground[:, None]
+        depth = (t * above).sum(axis=1) + (ground - 1) * cu
+        t_safe = np.where(used, t, np.inf)
+        return Geometry(
+            layers=layers, slot_t=t, slot_er=er, copper=cu, thickness=thickness,
+            depth=depth, ref_height=t[:, 0], ref_er=er[:, 0],
+            min_dielectric=t_safe.min(axis=1),
+            drill=np.asarray(self.drills)[c.drill], vias=np.asarray(self.vias)[c.vias],
+            material_counts=counts,
+            flags={m: c.mit[:, i] for i, m in enumerate(self.mitigations)},
+        )
+
+    def describe(self, c: Candidates, i: int) -> dict:
+        """One candidate in words: arrangement, materials per slot, copper, drill, vias."""
+        a = self.arrangements[int(c.arr[i])]
+        mats = []
+        for s, kind in enumerate(a.slot_kinds):
+            o = self.options[kind]
+            mats.append(o.names[int(c.slot[i, s])])
+        return {"arrangement": a.name, "roles": a.roles, "materials": mats,
+                "copper_m": self.copper[int(c.copper[i])],
+                "drill_m": self.drills[int(c.drill[i])], "vias": self.vias[int(c.vias[i])],
+                **{m: bool(c.mit[i, k]) for k, m in enumerate(self.mitigations)}}
+
+
+def _gene_bounds(space: Space) -> tuple[np.ndarray, np.ndarray]:
+    k = max(len(o) for o in space.options.values())
+    g = max(len(a.genes) for a in space.arrangements)
+    xu = [len(space.arrangements) - 1, *([k - 1] * g), len(space.copper) - 1,
+          len(space.drills) - 1, len(space.vias) - 1, *([1] * len(space.mitigations))]
+    return np.zeros(len(xu), dtype=np.int64), np.array(xu, dtype=np.int64)
+
+
+def genome_bounds(space: Space) -> tuple[np.ndarray, np.ndarray]:
+    """Inclusive integer bounds of the fixed-length genome used by the evolutionary search:
+    ``[arrangement, gene_0..gene_{G-1}, copper, drill, vias, mitigation bits]``. A gene value
+    ``g`` in ``[0, K-1]`` (K = the largest option count) picks option ``g * n // K`` of a
+    slot kind with ``n`` options, so that neighbouring values are neighbouring thicknesses."""
+    return _gene_bounds(space)
+
+
+def decode_genome(space: Space, x: np.ndarray) -> Candidates:
+    """Decode genomes (N, len(bounds)) into :class:`Candidates` (mirrored slots filled)."""
+    x = np.asarray(np.rint(x), dtype=np.int64)
+    _, xu = _gene_bounds(space)
+    x = np.clip(x, 0, xu)
+    n = len(x)
+    k = int(xu[1]) + 1 if len(xu) > 1 else 1
+    g_max = max(len(a.genes) for a in space.arrangements)
+    arr = x[:, 0]
+    slot = np.full((n, space.n_slots), -1, dtype=np.int64)
+    for ai, a in enumerate(space.arrangements):
+        rows = arr == ai
+        if not rows.any():
+            continue
+        for gi, slots in enumerate(a.genes):
+            n_opt = len(space.options[a.slot_kinds[slots[0]]])
+            opt = (x[rows, 1 + gi] * n_opt) // k
+            for s in slots:
+                slot[rows, s] = opt
+    rest = x[:, 1 + g_max:]
+    return Candidates(arr=arr, slot=slot, copper=rest[:, 0], drill=rest[:, 1],
+                      vias=rest[:, 2], mit=rest[:, 3:].astype(bool))
+
+
+def encode_candidates(space: Space, c: Candidates) -> np.ndarray:
+    """A genome that decodes to ``c`` (used to seed the evolutionary search)."""
+    _, xu = _gene_bounds(space)
+    k = int(xu[1]) + 1
+    g_max = max(len(a.genes) for a in space.arrangements)
+    genes = np.zeros((len(c), g_max), dtype=np.int64)
+    for ai, a in enumerate(space.arrangements):
+        rows = c.arr == ai
+        for gi, slots in enumerate(a.genes):
+            n_opt = len(space.options[a.slot_kinds[slots[0]]])
+            genes[rows, gi] = -((-c.slot[rows, slots[0]] * k) // n_opt)  # ceil
+    return np.column_stack([c.arr, genes, c.copper, c.drill, c.vias,
+                            c.mit.astype(np.int64)])
+
+
+def candidate_stackup(space: Space, c: Candidates, i: int):
+    """The :class:`~stackopt.model.stackup.Stackup` of candidate ``i``."""
+    from stackopt.model.stackup import Copper, Dielectric, Stackup
+
+    a = space.arrangements[int(c.arr[i])]
+    cu = space.copper[int(c.copper[i])]
+    copper = tuple(Copper(thickness=cu, role=r, name=f"L{k + 1}")  # type: ignore[arg-type]
+                   for k, r in enumerate(a.roles))
+    diel = []
+    for s, kind in enumerate(a.slot_kinds):
+        o = space.options[kind]
+        j = int(c.slot[i, s])
+        diel.append(Dielectric(kind=kind, material=o.names[j],  # type: ignore[arg-type]
+                               thickness=float(o.thickness[j]), er=float(o.er[j]),
+                               df=float(o.df[j]), plies=int(o.count[j])))
+    return Stackup(copper=copper, dielectrics=tuple(diel))
