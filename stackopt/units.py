@@ -54,9 +54,9 @@ def _prefixed(base: str, scale: float = 1.0, prefixes: str = "TGMk mµμunpf") -
 
 _UNITS: dict[str, dict[str, float]] = {
     "length": {
-        "mm": 1e-3, "um": 1e-6, "mil": INCH * 1e-3, "in": INCH, "m": 1.0, "oz": COPPER_M_PER_OZ,
-        "cm": 1e-2, "µm": 1e-6, "μm": 1e-6, "nm": 1e-9, "inch": INCH, "mils": INCH * 1e-3,
-        "thou": INCH * 1e-3,
+        "mm": 1e-3, "um": 1e-6, "mil": INCH * 1e-3, "in": INCH, "m": 1.0, "thou": INCH * 1e-3,
+        "oz": COPPER_M_PER_OZ, "cm": 1e-2, "µm": 1e-6, "μm": 1e-6, "nm": 1e-9, "inch": INCH, "mils": INCH * 1e-3,
+
     },
     "frequency": {"MHz": 1e6, "GHz": 1e9, "kHz": 1e3, "Hz": 1.0, "THz": 1e12},
     "impedance": {**_prefixed("ohm", prefixes="kMm"), **_prefixed("Ω", prefixes="kMm"),
@@ -180,9 +180,11 @@ def format_quantity(x: float, dim: Dimension, digits: int = 3) -> str:
     if not steps:
         return f"{x:.{digits}g}"
     ax = abs(x)
+    if dim == "length":
+        scale, name = (1e-3, "mm") if ax >= 0.0995e-3 else (1e-6, "um")
+        return f"{x / scale:.{digits}g} {name}"
     for scale, name in steps:
-        if ax >= scale * 0.0995 or scale == steps[-1][0]:
-            if dim == "length" and ax < 0.0995e-3:
-                scale, name = 1e-6, "um"
+        if ax >= scale * 0.9995:
             return f"{x / scale:.{digits}g} {name}"
-    return f"{x:.{digits}g}"  # pragma: no cover
+    scale, name = steps[-1]
+    return f"{x / scale:.{digits}g} {name}"

@@ -138,7 +138,6 @@ class SpaceSpec(BaseModel):
     copper: tuple[PositiveLength, ...] = (34.3e-6,)
     drills: tuple[PositiveLength, ...] = (0.3e-3,)
     vias_per_ground: tuple[int, ...] = (1,)
-    via_pitch: PositiveLength = 0.8e-3
     max_plies: int = Field(3, ge=1, le=4, description="prepreg plies per opening, at most")
     mitigations: tuple[Mitigation, ...] = ()
 

@@ -1,0 +1,42 @@
+"""Load a scenario file (YAML) into a validated :class:`~stackopt.model.scenario.Scenario`."""
+
+from __future__ import annotations
+
+from importlib import resources
+from pathlib import Path
+
+from stackopt.errors import InputError
+from stackopt.inputs.validate import validate_model
+from stackopt.inputs.yamlio import load_yaml
+from stackopt.model.costtable import CostTable
+from stackopt.model.scenario import Scenario
+
+__all__ = ["load_scenario", "scenario_cost_table", "demo_paths"]
+
+
+def load_scenario(path: str | Path) -> Scenario:
+    """Read and validate a scenario file; errors are one line naming file, line and key."""
+    doc = load_yaml(path)
+    return validate_model(Scenario, doc)
+
+
+def scenario_cost_table(scenario: Scenario, scenario_path: str | Path) -> CostTable | None:
+    """The cost table the scenario names (relative to the scenario file), or ``None``."""
+    from stackopt.inputs.costtable import load_cost_table
+
+    if not scenario.cost_table:
+        return None
+    p = Path(scenario.cost_table)
+    if not p.is_absolute():
+        p = Path(scenario_path).parent / p
+    if not p.exists():
+        raise InputError(f"cost table {scenario.cost_table!r} not found (looked at {p})",
+                         file=scenario_path, key="cost_table",
+                         fix="give a path relative to the scenario file, or pass --costs")
+    return load_cost_table(p)
+
+
+def demo_paths() -> tuple[Path, Path]:
+    """(scenario, cost table) of the built-in demo shipped inside the package."""
+    base = resources.files("stackopt.data")
+    return Path(str(base / "demo_scenario.yaml")), Path(str(base / "demo_costs.yaml"))
