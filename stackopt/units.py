@@ -55,8 +55,8 @@ def _prefixed(base: str, scale: float = 1.0, prefixes: str = "TGMk mµμunpf") -
 _UNITS: dict[str, dict[str, float]] = {
     "length": {
         "mm": 1e-3, "um": 1e-6, "mil": INCH * 1e-3, "in": INCH, "m": 1.0, "thou": INCH * 1e-3,
-        "oz": COPPER_M_PER_OZ, "cm": 1e-2, "µm": 1e-6, "μm": 1e-6, "nm": 1e-9, "inch": INCH, "mils": INCH * 1e-3,
-
+        "oz": COPPER_M_PER_OZ, "cm": 1e-2, "µm": 1e-6, "μm": 1e-6, "nm": 1e-9, "inch": INCH,
+        "mils": INCH * 1e-3,
     },
     "frequency": {"MHz": 1e6, "GHz": 1e9, "kHz": 1e3, "Hz": 1.0, "THz": 1e12},
     "impedance": {**_prefixed("ohm", prefixes="kMm"), **_prefixed("Ω", prefixes="kMm"),

@@ -18,8 +18,6 @@ from stackopt.circuit.metrics import attenuation_db
 from stackopt.cost import PriceBatch, price
 from stackopt.model.costtable import BoardOrder, CostTable
 from stackopt.model.scenario import Scenario
-from stackopt.physics.coplanar import cpwg
-from stackopt.physics.lines import microstrip
 from stackopt.physics.synthesis import synthesize_width
 from stackopt.search.space import Candidates, DielectricOptions, Geometry, Space
 
