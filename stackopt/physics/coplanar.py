@@ -100,8 +100,8 @@ def cpwg(w, gap, h, er, t=0.0) -> tuple[np.ndarray, np.ndarray]:
     r1 = elliptic_ratio((w / span) ** 2, 4.0 * g * (w + g) / span**2)
     k3sq, k3psq = _tanh_ratio_sq(np.pi * w / (4.0 * h), np.pi * span / (4.0 * h))
     r3 = elliptic_ratio(k3sq, k3psq)
-    q = r3 / r1
-    eps0 = (1.0 + er * q) / (1.0 + q)
+    q_inv = r1 / r3  # -> 0 on a very thin substrate (r3 -> inf): eps_eff -> er
+    eps0 = (q_inv + er) / (q_inv + 1.0)
     # thickness (t = 0 gives delta = 0: t ln(1/t) -> 0; a floor avoids log(0))
     ts = np.maximum(t, 1e-300)
     delta = np.where(t > 0, 1.25 * ts / np.pi * (1.0 + np.log(4.0 * np.pi * w / ts)), 0.0)

@@ -185,7 +185,7 @@ def microstrip_ipc2141(w, h, er, t=35e-6) -> tuple[np.ndarray, np.ndarray]:
 
 def _wheeler_z(w, h, er, t) -> np.ndarray:
     """Wheeler (1977) eq. (21) with the eq. (22) width correction, ohm."""
-    tt = np.maximum(t, 1e-300)
+    tt = np.where(t > 0, t, h)  # any positive stand-in; masked out below for t = 0
     dw1 = np.where(t > 0, tt / np.pi * np.log(
         4.0 * np.e / np.sqrt((tt / h) ** 2 + (1.0 / np.pi / (w / tt + 1.1)) ** 2)), 0.0)
     dw = dw1 * (1.0 + 1.0 / er) / 2.0
