@@ -82,7 +82,7 @@ def _material_coef(problem: Problem, layers: int) -> np.ndarray:
     sp = problem.space
     m = sp.n_materials
     counts = np.vstack([np.zeros((1, m), dtype=np.int64), np.eye(m, dtype=np.int64)])
-    pb = PriceBatch.broadcast(m + 1, layers=layers, material_counts=counts,
+    pb = PriceBatch.broadcast(layers=layers, material_counts=counts,
                               copper=sp.copper[0], inner_copper=sp.copper[0],
                               min_drill=max(sp.drills), thickness=1.6e-3,
                               min_dielectric=1.0, min_trace=np.nan, via_in_pad=False,
@@ -95,7 +95,7 @@ def _thickness_terms(problem: Problem, layers: int, cu: float, drill: float, vip
                      t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(unit cost without materials, total violation) as functions of finished thickness."""
     n = len(t)
-    pb = PriceBatch.broadcast(n, layers=layers,
+    pb = PriceBatch.broadcast(layers=layers,
                               material_counts=np.zeros((n, problem.space.n_materials),
                                                        dtype=np.int64),
                               copper=cu, inner_copper=cu, min_drill=drill, thickness=t,

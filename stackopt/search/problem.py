@@ -220,7 +220,7 @@ class Problem:
         n = len(g.depth)
         off = np.zeros(n, dtype=bool)
         return PriceBatch.broadcast(
-            n, layers=g.layers, material_counts=g.material_counts, copper=g.copper,
+            layers=g.layers, material_counts=g.material_counts, copper=g.copper,
             inner_copper=g.copper, min_drill=g.drill, thickness=g.thickness,
             min_dielectric=g.min_dielectric, min_trace=min_trace,
             via_in_pad=g.flags.get("via_in_pad", off),

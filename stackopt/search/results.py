@@ -72,11 +72,26 @@ class Result:
         return self.problem.objectives(self.evaluation)
 
     @cached_property
+    def complexity(self) -> np.ndarray:
+        """How much a candidate asks of the fab and the layout: layers, then mitigations,
+        then vias per ground connection (used to break ties between equal trade-offs)."""
+        g = self.evaluation.geometry
+        mits = sum((f.astype(np.int64) for f in g.flags.values()), np.zeros(self.n, np.int64))
+        return g.layers * 1000 + mits * 100 + g.vias
+
+    @cached_property
     def on_front(self) -> np.ndarray:
-        """Non-dominated among every feasible candidate evaluated."""
+        """Non-dominated among every feasible candidate evaluated; where several boards
+        give the same objective values, only the simplest is flagged."""
         mask = np.zeros(self.n, dtype=bool)
         idx = np.flatnonzero(self.feasible)
-        mask[idx[nondominated(self.objectives[idx])]] = True
+        nd = idx[nondominated(self.objectives[idx])]
+        if len(nd):
+            obj = np.round(self.objectives[nd], 9)
+            order = np.lexsort((nd, self.complexity[nd], *obj.T[::-1]))
+            nd, obj = nd[order], obj[order]
+            first = np.r_[True, np.any(obj[1:] != obj[:-1], axis=1)]
+            mask[nd[first]] = True
         return mask
 
     @cached_property
@@ -90,10 +105,11 @@ class Result:
         if not len(idx):
             return None
         ev = self.evaluation
-        if by == "cost":  # cheapest; ties by better electrical objective, then id
-            order = np.lexsort((idx, self.objectives[idx, 1], ev.unit_cost[idx]))
-        else:  # best electrical objective; ties by cost
-            order = np.lexsort((idx, ev.unit_cost[idx], self.objectives[idx, 1]))
+        cx = self.complexity[idx]
+        if by == "cost":  # cheapest; ties by better electrical objective, then simplest
+            order = np.lexsort((idx, cx, self.objectives[idx, 1], ev.unit_cost[idx]))
+        else:  # best electrical objective; ties by cost, then simplest
+            order = np.lexsort((idx, cx, ev.unit_cost[idx], self.objectives[idx, 1]))
         return int(idx[order[0]])
 
     @cached_property
