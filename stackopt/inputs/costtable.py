@@ -7,6 +7,7 @@ line, key path (or CSV row and column) and the fix. The format is in docs/cost_t
 from __future__ import annotations
 
 import io
+import re
 from dataclasses import dataclass, field
 from importlib.resources import as_file, files
 from pathlib import Path
@@ -84,25 +85,30 @@ def read_price_csv(path: str | Path) -> PriceCsv:
         df = pd.read_csv(io.StringIO("\n".join(s for _, s in kept)), header=None, dtype=str,
                          keep_default_na=False, skipinitialspace=True)
     except pd.errors.ParserError as exc:
-        raise InputError(f"not a regular CSV table ({exc})", file=p,
-                         fix="give every row the same number of comma-separated cells") from None
-    cells = df.to_numpy(dtype=str)
+        m = re.search(r"Expected (\d+) fields in line (\d+), saw (\d+)", str(exc))
+        if m is None:
+            raise InputError(f"not a regular CSV table ({exc})", file=p,
+                             fix="give every row the same number of cells") from None
+        line = kept[min(int(m.group(2)), len(kept)) - 1][0]
+        raise InputError(f"{m.group(3)} cells where the header has {m.group(1)}", file=p,
+                         line=line, fix="give every row the same number of cells") from None
+    cells = [[str(c) for c in row] for row in df.to_numpy(dtype=str).tolist()]
     file, head_line = str(p), kept[0][0]
-    if cells[0, 0].strip().lower() != "layers":
-        raise InputError(f"first header cell is {cells[0, 0]!r}", file=file, line=head_line,
+    if cells[0][0].strip().lower() != "layers":
+        raise InputError(f"first header cell is {cells[0][0]!r}", file=file, line=head_line,
                          key="header, column 1", fix="name the first column 'layers'")
     quantities = [_cell_int(c.strip(), "quantity break", file, head_line,
-                            f"header, column {j + 2}") for j, c in enumerate(cells[0, 1:])]
+                            f"header, column {j + 2}") for j, c in enumerate(cells[0][1:])]
     layers: dict[int, list[float]] = {}
     lines: dict[int, int] = {}
-    for r in range(1, cells.shape[0]):
+    for r in range(1, len(cells)):
         line = kept[r][0]
-        n = _cell_int(cells[r, 0].strip(), "layer count", file, line, f"row {r}, column 1")
+        n = _cell_int(cells[r][0].strip(), "layer count", file, line, f"row {r}, column 1")
         if n in layers:
             raise InputError(f"layer count {n} listed twice (also line {lines[n]})", file=file,
                              line=line, key=f"row '{n}'", fix="keep one row per layer count")
         row = []
-        for j, c in enumerate(cells[r, 1:]):
+        for j, c in enumerate(cells[r][1:]):
             key = f"row '{n}', column '{quantities[j]}'"
             if not c.strip():
                 raise InputError(f"no price for {n} layers at {quantities[j]} boards",
@@ -160,8 +166,9 @@ def load_cost_table(path: str | Path) -> CostTable:
         err = exc.errors(include_url=False)[0]
         ctx = (err.get("ctx") or {}).get("error")
         loc = _clean(err["loc"])
-        if isinstance(ctx, TableRuleError):
-            loc, msg, fix = loc + list(ctx.path), ctx.message, ctx.fix
+        if isinstance(ctx, InputError):
+            loc = loc + list(getattr(ctx, "path", ()))
+            msg, fix = ctx.message, ctx.fix
         else:
             msg, fix = err["msg"].removeprefix("Value error, "), None
         if csv is not None and loc[:1] == ["base_price"] and loc[1:2] in (["layers"],

@@ -12,7 +12,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Annotated, Literal
+from typing import Annotated, ClassVar, Literal
 
 from pydantic import AfterValidator, BaseModel, Field, field_validator, model_validator
 
@@ -40,10 +40,11 @@ class TableRuleError(InputError):
 
 def _price(x: float) -> float:
     if not math.isfinite(x):
-        raise ValueError("a price must be a finite number; give 0 or more in the table currency")
+        raise InputError("a price must be a finite number", fix="give 0 or more in the table "
+                         "currency")
     if x < 0:
-        raise ValueError(f"a price must not be negative, got {x:g}; give 0 or more "
-                         "(every adder is a cost, never a discount)")
+        raise InputError("a price must not be negative (every adder is a cost, never a "
+                         "discount)", fix="give 0 or more")
     return x
 
 
@@ -123,37 +124,43 @@ class BasePrice(BaseModel):
         return tuple(sorted(self.layers))
 
 
-class Prepreg(BaseModel):
-    """One prepreg ply by glass style; ``per_panel`` is the price of one ply on one panel."""
+class _Stocked(BaseModel):
+    """Fields every stocked dielectric has; ``per_panel`` is the price of one ply/core."""
 
     model_config = FROZEN
-    glass: str = Field(min_length=1, description="glass style, e.g. '2116'")
-    thickness: PositiveLength = Field(description="pressed thickness per ply, m")
-    dk: float = Field(ge=1.0, le=20.0)
-    df: float = Field(ge=0.0, lt=1.0)
+    thickness: PositiveLength = Field(description="pressed dielectric thickness, m")
+    dk: float = Field(ge=1.0, le=20.0, description="relative permittivity near 1 GHz")
+    df: float = Field(ge=0.0, lt=1.0, description="loss tangent")
     per_panel: Price
     name: str | None = Field(None, min_length=1, description="overrides the id suffix")
+    _prefix: ClassVar[str] = ""
+
+    def _suffix(self) -> str:
+        raise NotImplementedError
 
     @property
     def id(self) -> str:
-        """Stable catalogue id, ``pp-<name or glass>``."""
-        return f"pp-{self.name or self.glass}"
+        """Stable catalogue id: ``pp-<name or glass>`` or ``core-<name or mm>``."""
+        return f"{self._prefix}-{self.name or self._suffix()}"
 
 
-class Core(BaseModel):
+class Prepreg(_Stocked):
+    """One prepreg ply by glass style (thickness is the pressed thickness per ply)."""
+
+    glass: str = Field(min_length=1, description="glass style, e.g. '2116'")
+    _prefix: ClassVar[str] = "pp"
+
+    def _suffix(self) -> str:
+        return self.glass
+
+
+class Core(_Stocked):
     """One laminate core; ``thickness`` is the dielectric between its two foils."""
 
-    model_config = FROZEN
-    thickness: PositiveLength
-    dk: float = Field(ge=1.0, le=20.0)
-    df: float = Field(ge=0.0, lt=1.0)
-    per_panel: Price
-    name: str | None = Field(None, min_length=1, description="overrides the id suffix")
+    _prefix: ClassVar[str] = "core"
 
-    @property
-    def id(self) -> str:
-        """Stable catalogue id, ``core-<name or thickness in mm>``."""
-        return f"core-{self.name or f'{self.thickness * 1e3:g}'}"
+    def _suffix(self) -> str:
+        return f"{self.thickness * 1e3:g}"
 
 
 class Materials(BaseModel):
@@ -270,7 +277,8 @@ class CostTable(BaseModel):
     @classmethod
     def _currency(cls, v: str) -> str:
         if len(v) != 3 or not v.isalpha() or not v.isupper():
-            raise ValueError(f"currency {v!r} is not a three-letter code; write e.g. EUR or USD")
+            raise InputError(f"currency {v!r} is not a three-letter code",
+                             fix="write the ISO 4217 code in capitals, e.g. EUR or USD")
         return v
 
     @model_validator(mode="after")
@@ -306,11 +314,10 @@ class CostTable(BaseModel):
 
         Index ``k`` of this tuple is column ``k`` of ``PriceBatch.material_counts``.
         """
-        pp = tuple(CatalogueItem(p.id, "prepreg", p.thickness, p.dk, p.df, p.per_panel,
-                                 p.glass) for p in self.materials.prepregs)
-        co = tuple(CatalogueItem(c.id, "core", c.thickness, c.dk, c.df, c.per_panel)
-                   for c in self.materials.cores)
-        return pp + co
+        rows = [(m, "prepreg") for m in self.materials.prepregs]
+        rows += [(m, "core") for m in self.materials.cores]
+        return tuple(CatalogueItem(m.id, kind, m.thickness, m.dk, m.df, m.per_panel,
+                                   getattr(m, "glass", None)) for m, kind in rows)
 
     def material_index(self, material_id: str) -> int:
         """Column of ``material_id`` in the catalogue; ``KeyError`` naming the ids if absent."""
