@@ -1,0 +1,184 @@
+r"""Ground-connection parasitics of a batch of candidate stackups.
+
+Each ground terminal (an element whose ``gnd`` end goes through a named ground
+connection, see :mod:`stackopt.circuit.compile`) sees, per candidate, a partial
+inductance
+
+.. math::
+
+    L_{tt} = L_{trace}(\ell, w, h, t_{cu}) + L_{par}(h, d, \{xy\}),\qquad
+    L_{tu} = \frac{1}{n_t n_u}\sum_{i \in t}\sum_{j \in u} M(h, s_{ij}, d)
+
+- :math:`L_{trace}`: the pad-to-via trace over the plane at depth ``h``
+  (:func:`stackopt.physics.lines.pad_trace_inductance`); removed for via-in-pad.
+- :math:`L_{par}`: the connection's vias in parallel
+  (:func:`stackopt.physics.parallel.parallel_via_inductance`); ``n`` vias in a row at the
+  connection's pitch (default 3 drills), centred on its position, or at ``vias_at``.
+- :math:`M`: mutual inductance of two vias (:func:`stackopt.physics.parallel.via_mutual_inductance`,
+  the via model's own inductance times the partial-inductance coupling coefficient, so
+  the matrix stays consistent with the chosen model), *averaged over via pairs*: this
+  assumes each via of a connection carries an equal share of its current (exact for one
+  via; for several it slightly misweights edge and middle vias). The pad traces are not
+  coupled to each other (they run in different directions in most layouts).
+- Shared via (default): terminals on one connection are one via carrying both currents,
+  so :math:`L_{tu} = L_{tt}` for them (fully coupled). ``own_vias``: the second, third …
+  element on a connection gets a copy of the connection (trace and vias) moved by one,
+  two … pitches in +y.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, fields
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from stackopt.circuit.compile import CompiledCircuit
+from stackopt.errors import InputError
+from stackopt.physics.inductance import check_via_model
+from stackopt.physics.lines import pad_trace_inductance
+from stackopt.physics.parallel import parallel_via_inductance, row_positions, via_mutual_inductance
+
+__all__ = ["GroundBatch", "ground_inductance_matrix", "DEFAULT_PITCH_DRILLS"]
+
+#: Via pitch, in drills, where a ground connection does not give one (common practice,
+#: no source: room for the pads' annular rings and the fab's hole-to-hole spacing).
+DEFAULT_PITCH_DRILLS = 3.0
+
+
+@dataclass(frozen=True)
+class GroundBatch:
+    """What N candidate stackups do to the ground connections (1-D arrays of N).
+
+    Attributes
+    ----------
+    height : via length from the top copper to its plane [m], > 0
+    drill : drill / plated barrel outer diameter [m], > 0 (where the circuit gives none)
+    vias : vias per ground connection (where the circuit gives none), int >= 1
+    via_in_pad : bool, pad-to-via traces removed
+    own_vias : bool, every element gets its own via(s) instead of sharing a connection's
+    copper : top copper thickness [m], > 0 (for the pad trace)
+    """
+
+    height: np.ndarray
+    drill: np.ndarray
+    vias: np.ndarray
+    via_in_pad: np.ndarray
+    own_vias: np.ndarray
+    copper: np.ndarray
+
+    def __post_init__(self) -> None:
+        kinds = {"vias": int, "via_in_pad": bool, "own_vias": bool}
+        arrs = {f.name: np.asarray(getattr(self, f.name), dtype=kinds.get(f.name, float))
+                for f in fields(self)}
+        shapes = {a.shape for a in arrs.values()}
+        if len(shapes) != 1 or len(next(iter(shapes))) != 1:
+            raise InputError(f"GroundBatch arrays must be 1-D of one length, got {shapes}",
+                             fix="use GroundBatch.broadcast(...) for scalars")
+        for name in ("height", "drill", "copper"):
+            if not np.all(np.isfinite(arrs[name]) & (arrs[name] > 0)):
+                raise InputError(f"GroundBatch.{name} must be finite and > 0",
+                                 fix="give SI metres")
+        if np.any(arrs["vias"] < 1):
+            raise InputError("GroundBatch.vias must be >= 1", fix="give at least one via")
+        for name, a in arrs.items():
+            a.setflags(write=False)
+            object.__setattr__(self, name, a)
+
+    @classmethod
+    def broadcast(cls, height: ArrayLike, drill: ArrayLike = 0.3e-3, vias: ArrayLike = 1,
+                  via_in_pad: ArrayLike = False, own_vias: ArrayLike = False,
+                  copper: ArrayLike = 35e-6) -> GroundBatch:
+        """Build a batch from scalars or arrays, broadcast to one length N."""
+        arrs = np.broadcast_arrays(*(np.atleast_1d(x) for x in
+                                     (height, drill, vias, via_in_pad, own_vias, copper)))
+        return cls(*(np.array(a) for a in arrs))
+
+    @property
+    def n(self) -> int:
+        """Number of candidates N."""
+        return len(self.height)
+
+    def take(self, idx: ArrayLike) -> GroundBatch:
+        """The candidates at ``idx`` (indices or mask)."""
+        return GroundBatch(*(getattr(self, f.name)[idx] for f in fields(self)))
+
+
+def _terminal_vias(c: CompiledCircuit, batch: GroundBatch
+                   ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Via centres (N, G, V, 2), mask (N, G, V), count (N, G) and drill (N, G)."""
+    conn = c.terminal_conn
+    fixed = c.conn_vias[conn]
+    count = np.where(fixed > 0, fixed, batch.vias[:, None])
+    drill = np.where(np.isnan(c.conn_drill[conn]), batch.drill[:, None], c.conn_drill[conn])
+    pitch = np.where(np.isnan(c.conn_pitch[conn]), DEFAULT_PITCH_DRILLS * drill,
+                     c.conn_pitch[conn])
+    vmax = int(count.max())
+    xy = np.zeros(count.shape + (vmax, 2))
+    for v in np.unique(count):  # a handful of via counts
+        row = np.zeros(count.shape + (vmax, 2))
+        row[..., :v, :] = row_positions(int(v), pitch)
+        xy = np.where((count == v)[..., None, None], row, xy)
+    for t, cn in enumerate(conn):  # explicit coordinates (a few terminals)
+        off = c.conn_offsets[cn]
+        if off is not None:
+            xy[:, t, :len(off)] = off
+    shift = np.where(batch.own_vias[:, None], c.terminal_rank[None, :] * pitch, 0.0)
+    xy = xy + c.conn_xy[conn][None, :, None, :]
+    xy[..., 1] += shift[..., None]
+    mask = np.arange(vmax)[None, None, :] < count[..., None]
+    return xy, mask, count, drill
+
+
+def ground_inductance_matrix(compiled: CompiledCircuit, batch: GroundBatch,
+                             model: str = "goldfarb-pucel", *, mutual: bool = True
+                             ) -> np.ndarray:
+    """Partial-inductance matrix among the ground terminals of every candidate.
+
+    Parameters
+    ----------
+    compiled : CompiledCircuit
+        The circuit; its ground terminals are the elements grounded through a connection.
+    batch : GroundBatch
+        N candidates.
+    model : {"goldfarb-pucel", "johnson", "rosa", "image"}
+        Single-via model (:func:`stackopt.physics.inductance.ground_via_inductance`).
+    mutual : bool, default True
+        Include the mutual inductance between different via sets; False keeps only the
+        self terms (and a shared via's full coupling).
+
+    Returns
+    -------
+    ndarray, shape (N, G, G)
+        Inductance [H]; symmetric. G = ``compiled.n_terminals``.
+    """
+    model = check_via_model(model)
+    n, g = batch.n, compiled.n_terminals
+    if g == 0:
+        return np.zeros((n, 0, 0))
+    xy, mask, count, drill = _terminal_vias(compiled, batch)
+    h = batch.height[:, None]
+    hb = np.broadcast_to(h, (n, g))
+    lvia = np.zeros((n, g))
+    for v in np.unique(count):  # a handful of via counts; each (candidate, terminal) once
+        sel = count == v
+        lvia[sel] = parallel_via_inductance(hb[sel], drill[sel], xy[sel][:, :v, :], model)
+    conn = compiled.terminal_conn
+    length = np.where(batch.via_in_pad[:, None], 0.0, compiled.conn_trace_length[conn])
+    width = np.nan_to_num(compiled.conn_trace_width[conn], nan=1.0)
+    ltrace = np.where(length > 0, pad_trace_inductance(length, width, h, batch.copper[:, None]),
+                      0.0)
+    self_l = lvia + ltrace
+    same = conn[:, None] == conn[None, :]
+    shared = same[None] & ~batch.own_vias[:, None, None]
+    eye = np.eye(g, dtype=bool)
+    out = np.where(shared, self_l[:, :, None], 0.0)
+    if mutual:
+        diff = xy[:, :, None, :, None, :] - xy[:, None, :, None, :, :]
+        s = np.hypot(diff[..., 0], diff[..., 1])  # (N, G, G, V, V)
+        pair = mask[:, :, None, :, None] & mask[:, None, :, None, :]
+        dd = 0.5 * (drill[:, :, None] + drill[:, None, :])[..., None, None]
+        m = via_mutual_inductance(h[..., None, None, None], np.maximum(s, dd), dd, model)
+        mean = (m * pair).sum(axis=(-1, -2)) / pair.sum(axis=(-1, -2))
+        out = np.where(shared | eye, out, mean)
+    return np.where(eye, self_l[:, :, None], out)

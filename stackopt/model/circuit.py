@@ -1,0 +1,303 @@
+"""The scenario's ``circuit:`` section: a two-port of R, L, C elements between named nodes.
+
+Every element terminal that goes to the reserved node ``gnd`` may name a *ground
+connection* (``ground: g1``): the pad-to-via trace and via(s) whose inductance each
+candidate stackup sets. Two elements naming the same connection share its via(s). A
+``filter:`` entry generates a Butterworth or Chebyshev ladder instead of listing
+``elements`` (expanded by :func:`stackopt.circuit.compile.compile_circuit`). The schema is
+documented, with an example, in ``docs/circuit.md``.
+
+Cross-field mistakes (unknown node, missing value, a node connected to nothing, a loop of
+zero-impedance elements) are found here and name the element and the fix.
+"""
+
+from __future__ import annotations
+
+from typing import Annotated, Any, Literal
+
+from pydantic import BaseModel, Field, model_validator
+
+from stackopt.errors import did_you_mean
+from stackopt.model.fields import (
+    FROZEN,
+    Decibel,
+    Frequency,
+    Impedance,
+    Inductance,
+    Length,
+    NonNegativeLength,
+    PositiveFloat,
+    PositiveLength,
+    Resistance,
+)
+from stackopt.units import parse_quantity
+
+__all__ = ["GROUND_NODE", "Parasitics", "Element", "GroundGeometry", "Ground", "Coupling",
+           "FilterSpec", "Circuit"]
+
+#: The reserved name of the reference (ground) node.
+GROUND_NODE = "gnd"
+
+Name = Annotated[str, Field(pattern=r"^[A-Za-z_][A-Za-z0-9_.+\-]*$", max_length=40)]
+ElementType = Literal["R", "L", "C"]
+_DIM = {"R": "impedance", "L": "inductance", "C": "capacitance"}
+_EXAMPLE = {"R": "10 ohm", "L": "12 nH", "C": "3.9 pF"}
+
+
+class Parasitics(BaseModel):
+    """Series parasitics of a part: ESL, ESR and a quality factor.
+
+    ``q`` with ``q_at``: a fixed series resistance that gives that Q at ``q_at``.
+    ``q`` alone: the same Q at every frequency.
+    """
+
+    model_config = FROZEN
+    esl: Inductance = 0.0
+    esr: Resistance = 0.0
+    q: PositiveFloat | None = None
+    q_at: Frequency | None = None
+
+    @model_validator(mode="after")
+    def _q(self) -> Parasitics:
+        if self.q_at is not None and self.q is None:
+            raise ValueError("'q_at' without 'q'; give the quality factor as 'q: 40'")
+        return self
+
+
+class Element(Parasitics):
+    """One R, L or C between two nodes, optionally through a named ground connection."""
+
+    name: Name
+    type: ElementType
+    value: float | None = Field(None, description="ohm, H or F (SI) by type")
+    between: tuple[Name, Name]
+    ground: Name | None = Field(None, description="ground connection of the gnd terminal")
+
+    @model_validator(mode="before")
+    @classmethod
+    def _parse_value(cls, data: Any) -> Any:
+        if isinstance(data, dict) and data.get("type") in _DIM and data.get("value") is not None:
+            data = dict(data)
+            data["value"] = parse_quantity(data["value"], _DIM[data["type"]])  # type: ignore
+        return data
+
+    @model_validator(mode="after")
+    def _check(self) -> Element:
+        n, ex = self.name, _EXAMPLE[self.type]
+        if self.value is None:
+            raise ValueError(f"element {n} has no value; add 'value: {ex}'")
+        if self.value < 0:
+            raise ValueError(f"element {n} has a negative value; give a positive one ({ex})")
+        if self.type == "C" and self.value == 0:
+            raise ValueError(f"capacitor {n} is 0 F (an open circuit); remove it or give {ex}")
+        if self.type == "R" and self.q is not None:
+            raise ValueError(f"resistor {n} cannot have 'q'; use 'esl' for its inductance")
+        if self.between[0] == self.between[1]:
+            raise ValueError(f"element {n} has both ends on node {self.between[0]!r}; "
+                             "connect it between two different nodes")
+        if self.ground is not None and GROUND_NODE not in self.between:
+            raise ValueError(f"element {n} names ground {self.ground!r} but neither end is "
+                             f"'{GROUND_NODE}'; write between: [{self.between[0]}, gnd]")
+        return self
+
+    @property
+    def zero_impedance(self) -> bool:
+        """True for a zero-ohm link (R or L of value 0 with no ESL or ESR)."""
+        return self.type != "C" and self.value == 0 and self.esl == 0 and self.esr == 0
+
+
+class GroundGeometry(BaseModel):
+    """The pad-to-via trace and vias of a ground connection; unset parts come from the
+    search candidate (vias, drill) or defaults (pitch = 3 drills)."""
+
+    model_config = FROZEN
+    trace_length: NonNegativeLength = 0.0
+    trace_width: PositiveLength | None = None
+    vias: int | None = Field(None, ge=1, le=16)
+    pitch: PositiveLength | None = None
+    drill: PositiveLength | None = None
+
+    @model_validator(mode="after")
+    def _trace(self) -> GroundGeometry:
+        if self.trace_length > 0 and self.trace_width is None:
+            raise ValueError("a pad-to-via trace needs 'trace_width' (e.g. 0.4 mm)")
+        return self
+
+
+class Ground(GroundGeometry):
+    """A named ground connection at a board position (centre of its via row)."""
+
+    name: Name
+    at: tuple[Length, Length]
+    vias_at: tuple[tuple[Length, Length], ...] | None = Field(
+        None, min_length=1, max_length=16, description="via offsets from 'at', m")
+
+    @model_validator(mode="after")
+    def _vias(self) -> Ground:
+        if self.vias_at is not None:
+            if self.vias is not None and self.vias != len(self.vias_at):
+                raise ValueError(f"ground {self.name}: 'vias: {self.vias}' but "
+                                 f"{len(self.vias_at)} 'vias_at'; give one of them")
+            if self.pitch is not None:
+                raise ValueError(f"ground {self.name}: 'pitch' and 'vias_at' both given; "
+                                 "keep one")
+            pts = self.vias_at
+            for i in range(len(pts)):
+                for j in range(i):
+                    if pts[i] == pts[j]:
+                        raise ValueError(f"ground {self.name}: two vias at the same place; "
+                                         "give distinct 'vias_at'")
+        return self
+
+
+class Coupling(BaseModel):
+    """Magnetic coupling coefficient k between two inductors (M = k sqrt(L1 L2))."""
+
+    model_config = FROZEN
+    between: tuple[Name, Name]
+    k: float = Field(gt=-1.0, lt=1.0)
+
+
+class FilterSpec(BaseModel):
+    """A Butterworth or Chebyshev ladder from its prototype values (generator)."""
+
+    model_config = FROZEN
+    family: Literal["butterworth", "chebyshev"]
+    response: Literal["lowpass", "highpass"] = "lowpass"
+    order: int = Field(ge=1, le=15)
+    cutoff: Frequency
+    ripple: Decibel | None = Field(None, description="Chebyshev passband ripple, dB")
+    first: Literal["shunt", "series"] = "shunt"
+    ground: GroundGeometry | None = Field(None, description="template for every shunt "
+                                          "element's own ground connection; none = ideal")
+    spacing: PositiveLength = Field(3e-3, description="distance between ground connections")
+    capacitor: Parasitics = Parasitics()
+    inductor: Parasitics = Parasitics()
+
+    @model_validator(mode="after")
+    def _family(self) -> FilterSpec:
+        if self.family == "chebyshev":
+            if self.ripple is None or not 0 < self.ripple <= 3:
+                raise ValueError("a Chebyshev filter needs 'ripple' between 0 and 3 dB "
+                                 "(e.g. 0.1 dB)")
+            if self.order % 2 == 0:
+                raise ValueError(f"an even-order ({self.order}) Chebyshev ladder needs "
+                                 "unequal terminations; use an odd order")
+        elif self.ripple is not None:
+            raise ValueError("'ripple' is for Chebyshev filters; remove it for Butterworth")
+        return self
+
+
+class Circuit(BaseModel):
+    """The user's two-port: reference impedance, port nodes, elements, grounds."""
+
+    model_config = FROZEN
+    z0: Impedance = 50.0
+    input: Name = "in"
+    output: Name = "out"
+    elements: tuple[Element, ...] = ()
+    grounds: tuple[Ground, ...] = ()
+    couplings: tuple[Coupling, ...] = ()
+    filter: FilterSpec | None = None
+
+    @model_validator(mode="after")
+    def _check(self) -> Circuit:
+        if GROUND_NODE in (self.input, self.output):
+            raise ValueError(f"a port cannot be the '{GROUND_NODE}' node; name a circuit node")
+        if self.filter is not None:
+            if self.elements or self.grounds or self.couplings:
+                raise ValueError("give either 'filter' or 'elements' (with 'grounds', "
+                                 "'couplings'), not both")
+            return self
+        if not self.elements:
+            raise ValueError("the circuit has no elements; list 'elements' or give 'filter'")
+        _check_names(self)
+        _check_topology(self)
+        return self
+
+
+def _unique(names: list[str], what: str) -> None:
+    seen: set[str] = set()
+    for n in names:
+        if n in seen:
+            raise ValueError(f"two {what} are named {n!r}; give each a unique name")
+        seen.add(n)
+
+
+def _check_names(c: Circuit) -> None:
+    _unique([e.name for e in c.elements], "elements")
+    _unique([g.name for g in c.grounds], "grounds")
+    gnames = [g.name for g in c.grounds]
+    used = set()
+    for e in c.elements:
+        if e.ground is not None:
+            if e.ground not in gnames:
+                raise ValueError(f"element {e.name} names ground {e.ground!r}, which is not "
+                                 f"in 'grounds'{did_you_mean(e.ground, gnames)}; add it there")
+            used.add(e.ground)
+    for g in c.grounds:
+        if g.name not in used:
+            raise ValueError(f"ground {g.name} is used by no element; remove it or name it "
+                             "as an element's 'ground'")
+    for i, g in enumerate(c.grounds):
+        for h in c.grounds[:i]:
+            if g.at == h.at:
+                raise ValueError(f"grounds {h.name} and {g.name} are at the same place; "
+                                 "let the elements share one ground or move one")
+    byname = {e.name: e for e in c.elements}
+    pairs = set()
+    for cp in c.couplings:
+        a, b = cp.between
+        for n in (a, b):
+            if n not in byname:
+                raise ValueError(f"coupling names {n!r}, which is not an element"
+                                 f"{did_you_mean(n, list(byname))}; name two inductors")
+            if byname[n].type != "L" or byname[n].value == 0:
+                raise ValueError(f"coupling names {n}, which is not an inductor with a value; "
+                                 "couple two L elements")
+        key = frozenset((a, b))
+        if a == b or key in pairs:
+            raise ValueError(f"coupling {a}-{b} is repeated or couples an inductor with "
+                             "itself; give each pair once")
+        pairs.add(key)
+
+
+def _find(parent: dict[str, str], x: str) -> str:
+    while parent[x] != x:
+        parent[x] = parent[parent[x]]
+        x = parent[x]
+    return x
+
+
+def _check_topology(c: Circuit) -> None:
+    nodes: dict[str, list[str]] = {GROUND_NODE: []}
+    for e in c.elements:
+        for n in e.between:
+            nodes.setdefault(n, []).append(e.name)
+    for port, n in (("input", c.input), ("output", c.output)):
+        if n not in nodes:
+            raise ValueError(f"{port} node {n!r} is not an end of any element"
+                             f"{did_you_mean(n, list(nodes))}; name a node of the circuit")
+    for n, touching in nodes.items():
+        hint = " (the ground node is 'gnd')" if n.lower() == GROUND_NODE else ""
+        if n != GROUND_NODE and len(touching) == 1 and n not in (c.input, c.output):
+            raise ValueError(f"node {n!r} is connected only by {touching[0]}{hint}; connect "
+                             "its other end or remove it")
+    parent = {n: n for n in nodes}
+    for a, b in [e.between for e in c.elements] + [(c.input, GROUND_NODE),
+                                                    (c.output, GROUND_NODE)]:
+        parent[_find(parent, a)] = _find(parent, b)
+    root = _find(parent, GROUND_NODE)
+    for n, touching in nodes.items():
+        if _find(parent, n) != root:
+            hint = " (the ground node is 'gnd')" if n.lower() == GROUND_NODE else ""
+            raise ValueError(f"node {n!r} (element {touching[0]}) floats: no path to ground "
+                             f"or a port{hint}; connect it to the rest of the circuit")
+    zero = {n: n for n in nodes}
+    for e in c.elements:
+        if e.zero_impedance:
+            a, b = (_find(zero, n) for n in e.between)
+            if a == b:
+                raise ValueError(f"element {e.name} closes a loop of zero-ohm links (singular "
+                                 "circuit); give it a value or remove it")
+            zero[a] = b
