@@ -69,6 +69,7 @@ class Evaluation:
     widths: np.ndarray  # (N, lines) m, NaN where no width reaches the target
     violations: dict[str, np.ndarray]  # name -> (N,) >= 0
     geometry: Geometry
+    cost_items: dict[str, np.ndarray]  # itemised unit cost, items sum to unit_cost
 
     @property
     def feasible(self) -> np.ndarray:
@@ -227,9 +228,12 @@ class Problem:
             impedance_control=np.full(n, bool(self.scenario.lines)))
 
     def evaluate(self, c: Candidates, model: str | None = None) -> Evaluation:
-        """Every metric and constraint of a batch."""
-        g = self.space.geometry(c)
-        n = len(c)
+        """Every metric and constraint of a batch of candidates."""
+        return self.evaluate_geometry(self.space.geometry(c), model)
+
+    def evaluate_geometry(self, g: Geometry, model: str | None = None) -> Evaluation:
+        """Every metric and constraint of a batch given as geometry arrays."""
+        n = len(g.depth)
         s, lsum = self.response(g, model)
         att_f = attenuation_db(s)
         att, margin = self.attenuation(att_f)
@@ -255,4 +259,5 @@ class Problem:
         return Evaluation(unit_cost=pr.unit_cost, lot_cost=pr.lot_cost,
                           lead_time_days=pr.lead_time_days, attenuation=att,
                           attenuation_f=att_f, margin=margin,
-                          inductance=lsum, widths=widths, violations=viol, geometry=g)
+                          inductance=lsum, widths=widths, violations=viol, geometry=g,
+                          cost_items=dict(pr.items))

@@ -1,0 +1,66 @@
+"""``stackopt check``: validate a scenario and cost table and show what was understood."""
+
+from __future__ import annotations
+
+import argparse
+
+from stackopt.cli.common import load_inputs, table
+from stackopt.units import format_quantity as fq
+
+
+def register(sub: argparse._SubParsersAction) -> None:
+    """Add the ``check`` command."""
+    p = sub.add_parser("check", help="validate a scenario (and cost table); show it in units",
+                       description="Validate a scenario and its cost table and print what "
+                       "stackopt understood, with units. Exit 0 if valid, 2 if not.",
+                       epilog="example: stackopt check scenarios/harmonic_lowpass.yaml "
+                       "--costs cost_tables/volume.yaml")
+    p.add_argument("scenario", help="scenario YAML")
+    p.add_argument("--costs", metavar="TABLE", help="fab cost table YAML")
+    p.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    """Load, validate and describe."""
+    from stackopt.circuit import compile_circuit
+    from stackopt.search.problem import Problem
+
+    inp = load_inputs(args.scenario, args.costs)
+    sc, tb = inp.scenario, inp.table
+    compiled = compile_circuit(sc.circuit)
+    problem = Problem(sc, tb)
+    sp = problem.space
+    print(f"scenario  {sc.name}  ({inp.scenario_path})" + ("  [invented]" if sc.invented else ""))
+    print(f"cost table  {tb.fab}, {tb.currency}  ({inp.table_path})"
+          + ("  [invented]" if tb.invented else ""))
+    b = sc.board
+    print(f"board  {fq(b.width, 'length')} x {fq(b.height, 'length')}, quantity {b.quantity:,}")
+    c = sc.circuit
+    print(f"circuit  z0 {fq(c.z0, 'impedance')}, ports {c.input} -> {c.output}, "
+          f"{compiled.n_elements} elements ({', '.join(compiled.names)}), "
+          f"{len(compiled.conn_names)} ground connections")
+    rows = []
+    for r in sc.requirements:
+        where = (fq(r.frequency, "frequency") if r.frequency is not None else
+                 f"{fq(r.band[0], 'frequency')} .. {fq(r.band[1], 'frequency')}")  # type: ignore[index]
+        rows.append([r.label, where, f">= {r.min_attenuation:g} dB"])
+    if rows:
+        print(table(rows, ["requirement", "at", "attenuation"]))
+    for ln in sc.lines:
+        mw = f", at most {fq(ln.max_width, 'length')} wide" if ln.max_width else ""
+        print(f"line  {ln.name}: {ln.type} {fq(ln.impedance, 'impedance')}{mw}")
+    w = sc.space.thickness
+    print("space  layers " + ", ".join(str(a.n_layers) + " " + a.name for a in sp.arrangements))
+    print(f"       {len(sp.options['prepreg'])} prepreg openings, {len(sp.options['core'])} "
+          f"cores; copper {', '.join(fq(x, 'length') for x in sp.copper)}; drills "
+          f"{', '.join(fq(x, 'length') for x in sp.drills)}; vias per ground "
+          f"{', '.join(map(str, sp.vias))}")
+    if w is not None:
+        lo, hi = w.bounds
+        print(f"       finished thickness {fq(lo, 'length')} .. {fq(hi, 'length')}"
+              + ("; symmetric only" if sc.space.symmetric else ""))
+    if sp.mitigations:
+        print(f"       mitigations: {', '.join(sp.mitigations)}")
+    print(f"       {sp.size:,} stackups in the space")
+    print("ok")
+    return 0

@@ -1,0 +1,78 @@
+"""``stackopt eval``: score one stackup with the full breakdown."""
+
+from __future__ import annotations
+
+import argparse
+import json
+
+from stackopt.cli.common import load_inputs, money, table
+from stackopt.units import format_quantity as fq
+
+
+def register(sub: argparse._SubParsersAction) -> None:
+    """Add the ``eval`` command."""
+    p = sub.add_parser("eval", help="score one stackup: inductance, attenuation, cost",
+                       description="Score one stackup file (the format selected.yaml is "
+                       "written in) against a scenario, with the itemised cost.",
+                       epilog="example: stackopt eval scenarios/harmonic_lowpass.yaml "
+                       "--stackup stackopt-out/harmonic-lowpass-868/selected.yaml")
+    p.add_argument("scenario", help="scenario YAML")
+    p.add_argument("--stackup", metavar="FILE", required=True, help="stackup YAML")
+    p.add_argument("--costs", metavar="TABLE", help="fab cost table YAML")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    """Evaluate and print."""
+    from stackopt.inputs.stackupfile import load_stackup_file
+    from stackopt.search.problem import Problem
+    from stackopt.search.single import evaluate_stackup
+
+    inp = load_inputs(args.scenario, args.costs)
+    sf = load_stackup_file(args.stackup)
+    problem = Problem(inp.scenario, inp.table)
+    ev = evaluate_stackup(problem, sf, args.stackup)
+    g = ev.geometry
+    sc = inp.scenario
+    out = {
+        "layers": int(g.layers[0]), "thickness_m": float(g.thickness[0]),
+        "ground_plane_depth_m": float(g.depth[0]),
+        "ground_inductance_H": float(ev.inductance[0]),
+        "attenuation_dB": {r.key: float(ev.attenuation[0, k])
+                           for k, r in enumerate(sc.requirements)},
+        "margin_dB": float(ev.margin[0]),
+        "meets_requirements": bool(ev.feasible[0] and ev.margin[0] >= 0),
+        "line_widths_m": {ln.name: (None if ev.widths[0, j] != ev.widths[0, j]
+                                    else float(ev.widths[0, j]))
+                          for j, ln in enumerate(sc.lines)},
+        "unit_cost": float(ev.unit_cost[0]), "lot_cost": float(ev.lot_cost[0]),
+        "lead_time_days": float(ev.lead_time_days[0]), "currency": inp.table.currency,
+        "cost_items": {k: float(v[0]) for k, v in ev.cost_items.items()},
+        "violations": ev.violated(0),
+    }
+    if args.json:
+        print(json.dumps(out, indent=2))
+        return 0
+    cur = inp.table.currency
+    print(f"{out['layers']} layers, {fq(out['thickness_m'], 'length')} finished; ground plane "
+          f"{fq(out['ground_plane_depth_m'], 'length')} under the top")
+    print(f"ground connections: {fq(out['ground_inductance_H'], 'inductance')} in all "
+          f"({inp.scenario.search.via_model})")
+    rows = [[r.label, f"{ev.attenuation[0, k]:.1f} dB", f">= {r.min_attenuation:g} dB"]
+            for k, r in enumerate(sc.requirements)]
+    if rows:
+        print(table(rows, ["requirement", "reached", "needed"]))
+    print(f"margin {out['margin_dB']:+.1f} dB; "
+          + ("meets every requirement" if out["meets_requirements"] else "does NOT meet"))
+    for name, w in out["line_widths_m"].items():
+        print(f"line {name}: " + ("no width reaches the target" if w is None
+                                  else fq(w, "length") + " wide"))
+    rows = [[k, money(v, cur)] for k, v in out["cost_items"].items() if v]
+    rows.append(["unit cost", money(out["unit_cost"], cur)])
+    print(table(rows, ["cost item", "per board"]))
+    print(f"lot of {sc.board.quantity:,}: {money(out['lot_cost'], cur)}; lead time "
+          f"{out['lead_time_days']:g} working days")
+    if out["violations"]:
+        print("violates: " + "; ".join(out["violations"]))
+    return 0

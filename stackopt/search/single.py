@@ -1,0 +1,65 @@
+"""Score one given stackup (``stackopt eval``) with the same batched evaluator."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from stackopt.errors import InputError, did_you_mean
+from stackopt.model.stackup import Stackup
+from stackopt.model.stackupfile import StackupFile
+from stackopt.search.problem import Evaluation, Problem
+from stackopt.search.space import Geometry
+
+__all__ = ["stackup_geometry", "evaluate_stackup"]
+
+
+def _counts(problem: Problem, st: Stackup, file: str | None) -> np.ndarray:
+    sp = problem.space
+    counts = np.zeros(sp.n_materials, dtype=np.int64)
+    for k, d in enumerate(st.dielectrics):
+        opts = sp.options[d.kind]
+        names = list(opts.names)
+        ids = list(sp.material_names)
+        if d.material in names:
+            j = names.index(d.material)
+            counts[opts.material[j]] += opts.count[j]
+        elif d.material in ids:
+            counts[ids.index(d.material)] += d.plies
+        else:
+            raise InputError(
+                f"{d.kind} {d.material!r} is not in the fab's catalogue"
+                f"{did_you_mean(d.material, names + ids)}", file=file,
+                key=["stackup", 2 * k + 1, "material"],
+                fix=f"use one of: {', '.join(names[:12])}{' ...' if len(names) > 12 else ''}")
+    return counts
+
+
+def stackup_geometry(problem: Problem, sf: StackupFile, file: str | None = None) -> Geometry:
+    """Geometry arrays (a batch of one) for a stackup file."""
+    st = sf.to_stackup()
+    if st.ground_plane(0) is None:
+        raise InputError("the stackup has no ground or plane layer for the vias to reach",
+                         file=file, key="stackup",
+                         fix="give one copper layer role: ground")
+    t = np.array([[d.thickness for d in st.dielectrics]])
+    er = np.array([[d.er for d in st.dielectrics]])
+    ref = st.reference_plane(0)
+    ref_h = st.plane_distance(0)[1] if ref is not None and ref > 0 else st.via_depth(0)
+    above = [d for d in st.dielectrics[: (ref or 1)]]
+    ref_er = sum(d.er * d.thickness for d in above) / sum(d.thickness for d in above)
+    flags = {m: np.array([m in sf.mitigations]) for m in problem.space.mitigations}
+    for m in sf.mitigations:
+        flags.setdefault(m, np.array([True]))
+    return Geometry(
+        layers=np.array([st.n_layers]), slot_t=t, slot_er=er,
+        copper=np.array([st.copper[0].thickness]), thickness=np.array([st.thickness]),
+        depth=np.array([st.via_depth(0)]), ref_height=np.array([ref_h]),
+        ref_er=np.array([ref_er]), min_dielectric=t.min(axis=1),
+        drill=np.array([sf.drill]), vias=np.array([sf.vias_per_ground]),
+        material_counts=_counts(problem, st, file)[None, :], flags=flags)
+
+
+def evaluate_stackup(problem: Problem, sf: StackupFile, file: str | None = None
+                     ) -> Evaluation:
+    """Every metric of one stackup, priced by the problem's fab."""
+    return problem.evaluate_geometry(stackup_geometry(problem, sf, file))
