@@ -173,12 +173,15 @@ def ground_inductance_matrix(compiled: CompiledCircuit, batch: GroundBatch,
     shared = same[None] & ~batch.own_vias[:, None, None]
     eye = np.eye(g, dtype=bool)
     out = np.where(shared, self_l[:, :, None], 0.0)
-    if mutual:
-        diff = xy[:, :, None, :, None, :] - xy[:, None, :, None, :, :]
-        s = np.hypot(diff[..., 0], diff[..., 1])  # (N, G, G, V, V)
-        pair = mask[:, :, None, :, None] & mask[:, None, :, None, :]
-        dd = 0.5 * (drill[:, :, None] + drill[:, None, :])[..., None, None]
-        m = via_mutual_inductance(h[..., None, None, None], np.maximum(s, dd), dd, model)
-        mean = (m * pair).sum(axis=(-1, -2)) / pair.sum(axis=(-1, -2))
+    if mutual and g > 1:
+        i, j = np.triu_indices(g, 1)  # each pair of terminals once
+        diff = xy[:, i, :, None, :] - xy[:, j, None, :, :]
+        s = np.hypot(diff[..., 0], diff[..., 1])  # (N, P, V, V)
+        pair = mask[:, i, :, None] & mask[:, j, None, :]
+        dd = 0.5 * (drill[:, i] + drill[:, j])[..., None, None]
+        m = via_mutual_inductance(h[..., None, None], np.maximum(s, dd), dd, model)
+        mean = np.zeros((n, g, g))
+        mean[:, i, j] = (m * pair).sum(axis=(-1, -2)) / pair.sum(axis=(-1, -2))
+        mean[:, j, i] = mean[:, i, j]
         out = np.where(shared | eye, out, mean)
     return np.where(eye, self_l[:, :, None], out)
