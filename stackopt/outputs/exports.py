@@ -1,0 +1,149 @@
+"""Exports: candidate tables as CSV, the recommended stackup as YAML, the summary as JSON.
+
+CSV cells are safe to open in a spreadsheet: a *text* cell that begins with ``=``, ``+``,
+``-``, ``@``, a tab or a carriage return gets a leading apostrophe, so it is shown, not run
+as a formula (the OWASP "CSV injection" advice). Numeric columns stay numbers (a negative
+margin is not text).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+import pandas as pd
+import yaml
+
+from stackopt.outputs.facts import selected_index
+from stackopt.outputs.report_sections import OZ
+
+__all__ = ["candidates_csv", "front_csv", "selected_yaml", "selected_document",
+           "summary_json", "csv_safe", "FORMAT", "json_clean"]
+
+#: Format tag of :func:`selected_yaml` files (read back by
+#: :func:`stackopt.inputs.stackup_file.load_selected_yaml`).
+FORMAT = "stackopt-stackup/1"
+_TRIGGERS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def csv_safe(value: object) -> object:
+    """Neutralise one text cell (numbers, booleans and missing values pass unchanged)."""
+    if isinstance(value, str) and value.startswith(_TRIGGERS):
+        return "'" + value
+    return value
+
+
+def _csv(df: pd.DataFrame) -> str:
+    out = df.copy()
+    for col in out.columns:
+        if out[col].dtype == object or pd.api.types.is_string_dtype(out[col]):
+            out[col] = out[col].map(csv_safe)
+    out.columns = [csv_safe(str(c)) for c in out.columns]
+    return out.to_csv(index=False, lineterminator="\n", float_format="%.10g")
+
+
+def candidates_csv(result) -> str:
+    """Every evaluated candidate, one row each (``on_front`` flags the front)."""
+    return _csv(result.table)
+
+
+def front_csv(result) -> str:
+    """The front, by increasing unit cost."""
+    return _csv(result.table.iloc[np.asarray(result.front_order, dtype=np.int64)])
+
+
+def _q(x: float, unit: str, scale: float, digits: int = 6) -> str:
+    return f"{x / scale:.{digits}g} {unit}"
+
+
+def _round(x: float | None, sig: int) -> float | None:
+    return None if x is None else float(f"{x:.{sig}g}")
+
+
+def selected_document(result, i: int | None = None) -> dict:
+    """The recommended stackup (default: :func:`selected_index`) as a plain dict, layers
+    top to bottom, quantities as strings with units."""
+    i = selected_index(result) if i is None else int(i)
+    if i is None:
+        return {"format": FORMAT, "note": "no candidate was evaluated", "layers": []}
+    rec = result.record(i)
+    st = result.stackup(i)
+    tab = result.problem.table
+    tol = tab.capabilities.thickness_tolerance
+    layers = []
+    for r in st.to_records():
+        t = r["thickness_m"]
+        if r["kind"] == "copper":
+            layers.append({"name": r["name"], "kind": "copper", "role": r["role"],
+                           "thickness": _q(t, "um", 1e-6, 4),
+                           "copper_weight": f"{t / OZ:.3g} oz"})
+        else:
+            layers.append({"kind": r["kind"], "material": r["material"],
+                           "plies": int(r["plies"]), "thickness": _q(t, "mm", 1e-3),
+                           "dk": round(float(r["er"]), 4), "df": round(float(r["df"]), 5)})
+    lines = []
+    for ln in result.problem.scenario.lines:
+        w = rec["line_widths_m"].get(ln.name)
+        lines.append({"name": ln.name, "type": "cpwg" if ln.type == "cpwg"
+                      or "coplanar" in rec["mitigations"] else "microstrip",
+                      "layer": "L1", "impedance": f"{ln.impedance:g} ohm",
+                      "width": None if w is None else _q(w, "mm", 1e-3, 4),
+                      **({"gap": _q(ln.gap, "mm", 1e-3, 4)} if ln.gap else {})})
+    return {
+        "format": FORMAT,
+        "note": "ESTIMATE from stackopt's closed-form models: confirm the stackup, pressed "
+                "thicknesses and controlled-impedance widths with the fab before release.",
+        "scenario": result.problem.scenario.name,
+        "candidate": rec["id"],
+        "meets_requirements": rec["meets_requirements"],
+        "fab_table": tab.fab,
+        "finished_thickness": _q(st.thickness, "mm", 1e-3, 4),
+        "thickness_tolerance": f"{tol * 100:g} %",
+        "drill": _q(rec["drill_m"], "mm", 1e-3, 4),
+        "vias_per_ground": rec["vias_per_ground"],
+        "mitigations": rec["mitigations"],
+        "unit_cost": _round(rec["unit_cost"], 6),
+        "currency": tab.currency,
+        "margin_dB": _round(rec["margin_dB"], 4),
+        "layers": layers,
+        "controlled_impedance": lines,
+    }
+
+
+_HEADER = ("# Board stackup chosen by stackopt. ESTIMATE: confirm with the fab before release.\n"
+           "# Layers top (component side) to bottom. Read back with\n"
+           "#   stackopt eval SCENARIO --stackup selected.yaml\n")
+
+
+def selected_yaml(result, i: int | None = None) -> str:
+    """The recommended stackup as YAML, complete enough for a fab drawing (see
+    :func:`selected_document`)."""
+    return _HEADER + yaml.safe_dump(selected_document(result, i), sort_keys=False,
+                                    allow_unicode=True, width=100)
+
+
+def json_clean(x: object) -> object:
+    """JSON-ready copy: numpy scalars and arrays to Python, non-finite floats to None."""
+    if isinstance(x, dict):
+        return {str(k): json_clean(v) for k, v in x.items()}
+    if isinstance(x, list | tuple):
+        return [json_clean(v) for v in x]
+    if isinstance(x, np.ndarray):
+        return json_clean(x.tolist())
+    if isinstance(x, np.bool_):
+        return bool(x)
+    if isinstance(x, np.integer):
+        return int(x)
+    if isinstance(x, float | np.floating):
+        v = float(x)
+        return v if math.isfinite(v) else None
+    return x
+
+
+def summary_json(result, extra: dict | None = None) -> str:
+    """``result.to_summary(extra)`` as JSON (keys in contract order, no NaN/inf: they
+    become ``null``), deterministic."""
+    data = json_clean(result.to_summary(extra))
+    return json.dumps(data, sort_keys=False, indent=2, allow_nan=False,
+                      ensure_ascii=False) + "\n"

@@ -1,0 +1,220 @@
+"""Plots of a search result (matplotlib, no pyplot state, Agg rendering).
+
+Every figure is built with the :data:`STYLE` rc settings and saved without dates or
+version strings, so a re-run writes byte-identical PNG and SVG files. The stackup, cost
+and prepreg figures live in :mod:`stackopt.outputs.plots_stackup`.
+"""
+
+from __future__ import annotations
+
+import functools
+import io
+from pathlib import Path
+
+import matplotlib as mpl
+import numpy as np
+from matplotlib.figure import Figure
+
+from stackopt.outputs.facts import PICK_SHORT, responses, sweep_freqs, unique_picks
+from stackopt.outputs.files import atomic_write_bytes
+
+__all__ = ["STYLE", "styled", "new_figure", "figure_bytes", "save_png", "save_svg",
+           "plot_front", "plot_response", "plain", "LAYER_MARKERS", "layer_color", "pick_color"]
+
+#: rc settings of every figure (``svg.hashsalt`` fixes the SVG ids; paths, not fonts).
+STYLE = {
+    "svg.hashsalt": "stackopt",
+    "svg.fonttype": "path",
+    "font.size": 9.0,
+    "axes.titlesize": 10.0,
+    "axes.labelsize": 9.0,
+    "axes.grid": True,
+    "grid.alpha": 0.3,
+    "legend.fontsize": 8.0,
+    "legend.framealpha": 0.9,
+    "figure.dpi": 100.0,
+    "savefig.dpi": 110.0,
+    "path.simplify": False,
+}
+#: Marker per copper-layer count.
+LAYER_MARKERS = {2: "o", 4: "s", 6: "^", 8: "D", 10: "v", 12: "P"}
+_PICK_COLORS = ("#d62728", "#1f77b4", "#2ca02c", "#9467bd", "#8c564b")
+_PNG_META = {"Software": "stackopt"}
+_SVG_META = {"Date": None, "Creator": "stackopt"}
+
+
+def plain(text: object) -> str:
+    """A user string made safe for matplotlib (no mathtext: ``$`` is literal)."""
+    return str(text).replace("$", r"\$")
+
+
+def layer_color(n: int) -> str:
+    """A fixed colour per layer count."""
+    palette = {2: "#ff7f0e", 4: "#1f77b4", 6: "#2ca02c", 8: "#9467bd"}
+    return palette.get(int(n), "#7f7f7f")
+
+
+def pick_color(k: int) -> str:
+    """Colour of the ``k``-th distinct pick."""
+    return _PICK_COLORS[k % len(_PICK_COLORS)]
+
+
+def styled(fn):
+    """Build the figure under :data:`STYLE` (decorator)."""
+    @functools.wraps(fn)
+    def wrapper(*args, **kwargs):
+        with mpl.rc_context(STYLE):
+            return fn(*args, **kwargs)
+    return wrapper
+
+
+def new_figure(width: float, height: float, **kw) -> Figure:
+    """A pyplot-free figure with constrained layout (inches)."""
+    return Figure(figsize=(width, height), layout="constrained", **kw)
+
+
+def figure_bytes(fig: Figure, fmt: str = "png") -> bytes:
+    """The figure encoded as ``png`` or ``svg``, deterministically."""
+    buf = io.BytesIO()
+    meta = _PNG_META if fmt == "png" else _SVG_META
+    with mpl.rc_context(STYLE):
+        fig.savefig(buf, format=fmt, metadata=meta)
+    return buf.getvalue()
+
+
+def save_png(fig: Figure, path: str | Path) -> Path:
+    """Write the figure as PNG, atomically."""
+    return atomic_write_bytes(path, figure_bytes(fig, "png"))
+
+
+def save_svg(fig: Figure, path: str | Path) -> Path:
+    """Write the figure as SVG, atomically."""
+    return atomic_write_bytes(path, figure_bytes(fig, "svg"))
+
+
+def _perf_axis(result) -> tuple[np.ndarray, str, bool]:
+    """(values, label, higher is better) of the electrical axis."""
+    ev = result.evaluation
+    if result.problem.scenario.requirements:
+        return ev.margin, "Margin over the requirements (dB, worst requirement)", True
+    return ev.inductance * 1e9, "Ground inductance, sum over connections (nH)", False
+
+
+def _no_data(ax, text: str) -> None:
+    ax.text(0.5, 0.5, text, ha="center", va="center", transform=ax.transAxes)
+    ax.set_xticks([])
+    ax.set_yticks([])
+
+
+@styled
+def plot_front(result) -> Figure:
+    """Cost against margin of every evaluated candidate: infeasible ones faint grey,
+    feasible ones faint by layer count, the Pareto front bold (marker by layer count),
+    the requirement line at 0 dB margin, and the picks annotated."""
+    fig = new_figure(8.0, 5.2)
+    ax = fig.add_subplot()
+    ev = result.evaluation
+    cur = result.problem.table.currency
+    y, ylabel, higher = _perf_axis(result)
+    x = ev.unit_cost
+    layers = ev.geometry.layers
+    feas = result.feasible
+    if result.n == 0:
+        _no_data(ax, "no candidate was evaluated")
+        return fig
+    bad = ~feas
+    if bad.any():
+        ax.scatter(x[bad], y[bad], s=6, marker="x", color="0.6", alpha=0.25, linewidths=0.6,
+                   label=f"infeasible ({int(bad.sum())})", rasterized=True, zorder=1)
+    front = result.front_order
+    for n in np.unique(layers):
+        m = feas & (layers == n)
+        mk = LAYER_MARKERS.get(int(n), "P")
+        if m.any():
+            ax.scatter(x[m], y[m], s=9, marker=mk, color=layer_color(n), alpha=0.18,
+                       linewidths=0, rasterized=True, zorder=2)
+        f = front[layers[front] == n]
+        if len(f):
+            ax.scatter(x[f], y[f], s=38, marker=mk, facecolor=layer_color(n),
+                       edgecolor="black", linewidths=0.6, zorder=4,
+                       label=f"front, {int(n)} layers ({len(f)})")
+        elif m.any():
+            ax.scatter([], [], s=20, marker=mk, color=layer_color(n), alpha=0.5,
+                       label=f"feasible, {int(n)} layers")
+    if len(front) > 1:
+        ax.step(x[front], y[front], where="post", color="black", lw=0.8, alpha=0.6, zorder=3)
+    if result.problem.scenario.requirements:
+        ax.axhline(0.0, color="#d62728", lw=1.2, ls="--", zorder=3,
+                   label="requirement met above this line")
+    offsets = [(14, 22), (14, -26), (-60, 26), (-60, -30), (22, 4)]
+    for k, (i, names) in enumerate(unique_picks(result)):
+        text = " / ".join(PICK_SHORT[nm] for nm in names)
+        ax.annotate(f"{text}\n{int(layers[i])}L, {x[i]:,.2f} {cur}", (x[i], y[i]),
+                    xytext=offsets[k % len(offsets)], textcoords="offset points", fontsize=8,
+                    color=pick_color(k), zorder=6,
+                    arrowprops={"arrowstyle": "->", "color": pick_color(k), "lw": 0.9},
+                    bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": pick_color(k),
+                          "lw": 0.6, "alpha": 0.9})
+        ax.scatter([x[i]], [y[i]], s=90, facecolor="none", edgecolor=pick_color(k),
+                   linewidths=1.6, zorder=5)
+    ok = np.isfinite(y) & feas if feas.any() else np.isfinite(y)
+    if ok.any():  # keep the -999 dB stand-in of failed evaluations off the scale
+        lo, hi = float(np.min(y[ok])), float(np.max(y[ok]))
+        pad = 0.08 * max(hi - lo, 1.0)
+        ax.set_ylim(lo - pad, hi + pad)
+    ax.set_xlabel(f"Cost per board ({cur}, lot of {result.problem.scenario.board.quantity:,})")
+    ax.set_ylabel(ylabel + ("" if higher else ", lower is better"))
+    ax.set_title(f"Cost against performance: {result.n:,} candidates evaluated, "
+                 f"{len(front)} on the front")
+    ax.legend(loc="lower right" if higher else "upper right")
+    return fig
+
+
+def _requirement_marks(ax, result, ylo: float) -> None:
+    for k, r in enumerate(result.problem.scenario.requirements):
+        top = -r.min_attenuation
+        if r.frequency is not None:
+            f0 = r.frequency / 1e9
+            span = 0.03 * ax.get_xlim()[1]
+            lo, hi = f0 - span / 2, f0 + span / 2
+        else:
+            lo, hi = r.band[0] / 1e9, r.band[1] / 1e9  # type: ignore[index]
+        ax.fill_between([lo, hi], [top, top], [0, 0], color="#d62728", alpha=0.12,
+                        lw=0, zorder=1, label="not allowed (requirement)" if k == 0 else None)
+        ax.plot([lo, hi], [top, top], color="#d62728", lw=2.0, zorder=5)
+        ax.annotate(f"{plain(r.label)}\n≥ {r.min_attenuation:g} dB", ((lo + hi) / 2, top),
+                    xytext=(0, 8), textcoords="offset points", ha="center", fontsize=7.5,
+                    color="#a01010", zorder=6)
+
+
+@styled
+def plot_response(result) -> Figure:
+    """|S21| in dB of each pick against the same circuit with ideal grounding, over a
+    sweep covering the requirements, with the requirement marks."""
+    fig = new_figure(8.0, 4.8)
+    ax = fig.add_subplot()
+    picks = unique_picks(result)
+    if not picks:
+        _no_data(ax, "no feasible candidate to plot")
+        return fig
+    f = sweep_freqs(result)
+    s21, ideal = responses(result, [i for i, _ in picks], f)
+    ax.plot(f / 1e9, ideal, color="black", ls="--", lw=1.2, label="ideal grounding", zorder=3)
+    ev = result.evaluation
+    for k, (i, names) in enumerate(picks):
+        text = " / ".join(PICK_SHORT[nm] for nm in names)
+        ax.plot(f / 1e9, s21[k], color=pick_color(k), lw=1.5, zorder=4,
+                label=f"{text}: {int(ev.geometry.layers[i])} layers, "
+                      f"{result.ids[i]}")
+    ax.set_xlim(0, f[-1] / 1e9)
+    req = [r.min_attenuation for r in result.problem.scenario.requirements]
+    floor = min(float(np.min(ideal)), float(np.min(s21)))
+    ylo = max(floor - 5.0, -1.6 * max(req, default=60.0), -150.0)
+    ax.set_ylim(ylo, 5.0)
+    _requirement_marks(ax, result, ylo)
+    ax.set_xlabel("Frequency (GHz)")
+    ax.set_ylabel("|S21| (dB)")
+    model = result.problem.scenario.search.via_model
+    ax.set_title(f"Transmission of the picks (via model: {model})")
+    ax.legend(loc="lower left")
+    return fig

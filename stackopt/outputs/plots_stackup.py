@@ -1,0 +1,189 @@
+"""Cross-sections, itemised costs and the prepreg choice of a search result."""
+
+from __future__ import annotations
+
+import numpy as np
+from matplotlib.figure import Figure
+from matplotlib.patches import Rectangle
+
+from stackopt.outputs.facts import PICK_SHORT, cost_items, top_dielectric, unique_picks
+from stackopt.outputs.plots import new_figure, pick_color, plain, styled
+
+__all__ = ["plot_stackups", "plot_costs", "plot_prepregs", "prepreg_table"]
+
+_FILL = {"copper": "#c87533", "prepreg": "#a8c686", "core": "#6f9a4e"}
+#: Copper is drawn at least this fraction of the board so that 18 um stays visible.
+_MIN_COPPER = 0.02
+
+
+def _label_rows(st) -> list[tuple[str, str, float, str]]:
+    """(kind, text, thickness, role/material) per layer, top to bottom."""
+    rows = []
+    for rec in st.to_records():
+        t = rec["thickness_m"]
+        if rec["kind"] == "copper":
+            text = f"{rec['name']}  {rec['role']}  copper {t * 1e6:.0f} um"
+        else:
+            text = (f"{plain(rec['material'])}  {rec['kind']}  {t * 1e3:.3g} mm  "
+                    f"Dk {rec['er']:.2f}")
+        rows.append((rec["kind"], text, t, rec.get("role", "")))
+    return rows
+
+
+def _draw_stackup(ax, st, title: str, color: str) -> None:
+    rows = _label_rows(st)
+    total = st.thickness
+    shown = [max(t, _MIN_COPPER * total) if k == "copper" else t for k, _, t, _ in rows]
+    scale = total / sum(shown)  # keep the drawn total equal to the real one
+    z = 0.0
+    centres = []
+    for (kind, _text, _t, role), h in zip(rows, shown, strict=True):
+        h *= scale
+        fill = _FILL[kind]
+        hatch = "////" if kind == "copper" and role in ("ground", "power", "plane") else None
+        ax.add_patch(Rectangle((0.0, z), 0.34, h, facecolor=fill, edgecolor="black",
+                               lw=0.5, hatch=hatch))
+        centres.append(z + h / 2)
+        z += h
+    n = len(rows)
+    ys = np.linspace(0.0, total, n + 2)[1:-1] if n > 1 else np.array([total / 2])
+    for (kind, text, _t, _r), yc, yl in zip(rows, centres, ys, strict=True):
+        ax.plot([0.34, 0.40, 0.44], [yc, yl, yl], color="0.4", lw=0.5)
+        ax.text(0.45, yl, text, va="center", fontsize=7.2,
+                color="#7a3d10" if kind == "copper" else "black")
+    ax.set_xlim(0, 1.6)
+    ax.set_ylim(total * 1.02, -total * 0.02)
+    ax.set_xticks([])
+    ticks = np.linspace(0, total, 5)
+    ax.set_yticks(ticks, [f"{v * 1e3:.2f}" for v in ticks])
+    ax.set_ylabel("Depth from top copper (mm)")
+    ax.grid(False)
+    ax.set_title(title, fontsize=9, color=color)
+
+
+@styled
+def plot_stackups(result) -> Figure:
+    """Cross-section of each pick: dielectrics to scale, copper drawn at least 2 % of the
+    board so it stays visible (hatched copper is a plane), every layer labelled with
+    material, thickness and Dk."""
+    picks = unique_picks(result)
+    ncol = max(len(picks), 1)
+    fig = new_figure(min(3.9 * ncol, 15.0), 5.2)
+    if not picks:
+        ax = fig.add_subplot()
+        ax.text(0.5, 0.5, "no feasible candidate to draw", ha="center", va="center")
+        ax.set_axis_off()
+        return fig
+    cur = result.problem.table.currency
+    axes = fig.subplots(1, ncol, squeeze=False)[0]
+    for k, (ax, (i, names)) in enumerate(zip(axes, picks, strict=True)):
+        st = result.stackup(i)
+        head = " / ".join(PICK_SHORT[nm] for nm in names)
+        title = (f"{head}\n{st.n_layers} layers, {st.thickness * 1e3:.2f} mm, "
+                 f"{result.evaluation.unit_cost[i]:,.2f} {cur}")
+        _draw_stackup(ax, st, title, pick_color(k))
+    fig.suptitle("Stackups of the picks (dielectrics to scale; copper thickened to show)")
+    return fig
+
+
+@styled
+def plot_costs(result) -> Figure:
+    """Itemised cost per board of each pick as stacked bars (items that are zero for
+    every pick are left out), with the total and the lot cost over each bar."""
+    fig = new_figure(8.0, 4.8)
+    ax = fig.add_subplot()
+    picks = unique_picks(result)
+    cur = result.problem.table.currency
+    if not picks:
+        ax.text(0.5, 0.5, "no feasible candidate to price", ha="center", va="center")
+        ax.set_axis_off()
+        return fig
+    idx = [i for i, _ in picks]
+    items = cost_items(result, idx)
+    names = [k for k, v in items.items() if np.any(np.abs(v) > 0)]
+    xs = np.arange(len(idx))
+    bottom = np.zeros(len(idx))
+    cmap = [f"C{j}" for j in range(10)]
+    for j, name in enumerate(names):
+        v = np.asarray(items[name], dtype=float)
+        ax.bar(xs, v, 0.55, bottom=bottom, color=cmap[j % 10], edgecolor="white", lw=0.5,
+               label=name.replace("_", " "))
+        bottom += v
+    ev = result.evaluation
+    for x, i, top in zip(xs, idx, bottom, strict=True):
+        ax.annotate(f"{ev.unit_cost[i]:,.2f} {cur}\nlot {ev.lot_cost[i]:,.0f} {cur}",
+                    (x, top), xytext=(0, 4), textcoords="offset points", ha="center",
+                    fontsize=8)
+    labels = [f"{' / '.join(PICK_SHORT[n] for n in nm)}\n{int(ev.geometry.layers[i])} layers"
+              for i, nm in picks]
+    ax.set_xticks(xs, labels)
+    ax.set_ylim(0, float(bottom.max(initial=1.0)) * 1.22 or 1.0)
+    ax.set_ylabel(f"Cost per board ({cur})")
+    ax.set_title(f"Itemised cost of the picks (lot of "
+                 f"{result.problem.scenario.board.quantity:,})")
+    ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0))
+    ax.grid(axis="x", visible=False)
+    return fig
+
+
+def prepreg_table(result) -> list[tuple[str, float, int, float, int | None]]:
+    """Per top dielectric used by a feasible candidate: (name, Dk, best candidate, its
+    margin dB, cheapest candidate meeting the requirements or ``None``), sorted by best
+    margin (descending)."""
+    feas = np.flatnonzero(result.feasible)
+    if not len(feas):
+        return []
+    names = top_dielectric(result)
+    ev = result.evaluation
+    out = []
+    for name in sorted(set(names[feas])):  # a few dozen catalogue options at most
+        rows = feas[names[feas] == name]
+        best = int(rows[np.lexsort((ev.unit_cost[rows], -ev.margin[rows]))[0]])
+        ok = rows[result.meets[rows]]
+        cheap = int(ok[np.lexsort((-ev.margin[ok], ev.unit_cost[ok]))[0]]) if len(ok) else None
+        out.append((str(name), float(ev.geometry.ref_er[best]), best,
+                    float(ev.margin[best]), cheap))
+    out.sort(key=lambda r: (-r[3], r[0]))
+    return out
+
+
+@styled
+def plot_prepregs(result) -> Figure:
+    """The dielectric under the top copper: for each option used, the best margin reached
+    (left) and the cheapest stackup using it that meets the requirements (right)."""
+    rows = prepreg_table(result)
+    fig = new_figure(8.5, max(2.6, 0.32 * len(rows) + 1.6))
+    if not rows:
+        ax = fig.add_subplot()
+        ax.text(0.5, 0.5, "no feasible candidate", ha="center", va="center")
+        ax.set_axis_off()
+        return fig
+    ev = result.evaluation
+    cur = result.problem.table.currency
+    ax1, ax2 = fig.subplots(1, 2, sharey=True)
+    ys = np.arange(len(rows))
+    margin = np.array([r[3] for r in rows])
+    ax1.barh(ys, margin, color=np.where(margin >= 0, "#2ca02c", "#d62728"), height=0.6)
+    ax1.axvline(0, color="black", lw=0.8)
+    ax1.set_yticks(ys, [f"{plain(r[0])} ({ev.geometry.ref_height[r[2]] * 1e3:.3g} mm, "
+                        f"Dk {r[1]:.2f}, {int(ev.geometry.layers[r[2]])}L)" for r in rows])
+    ax1.invert_yaxis()
+    ax1.set_xlabel("Best margin reached (dB)")
+    ax1.set_title("Best margin with this top dielectric")
+    for y, r in zip(ys, rows, strict=True):
+        cheap = r[4]
+        if cheap is None:
+            ax2.text(0.02, y, "none meets the requirements", va="center", fontsize=7.5,
+                     color="#a01010", transform=ax2.get_yaxis_transform())
+            continue
+        ax2.barh([y], [ev.unit_cost[cheap]], color="#1f77b4", height=0.6)
+        ax2.annotate(f"{ev.unit_cost[cheap]:,.2f} ({int(ev.geometry.layers[cheap])}L)",
+                     (ev.unit_cost[cheap], y), xytext=(3, 0), textcoords="offset points",
+                     va="center", fontsize=7.5)
+    costs = [ev.unit_cost[r[4]] for r in rows if r[4] is not None]
+    ax2.set_xlim(0, max(costs, default=1.0) * 1.3)
+    ax2.set_xlabel(f"Cost per board ({cur})")
+    ax2.set_title("Cheapest stackup meeting the requirements")
+    for ax in (ax1, ax2):
+        ax.grid(axis="y", visible=False)
+    return fig

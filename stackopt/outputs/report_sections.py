@@ -1,0 +1,204 @@
+"""Report sections after the first screen: risks, the stackup for the fab drawing, the
+model spread, assumptions and cautions (plain-text blocks, see
+:mod:`stackopt.outputs.report_render`)."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from stackopt.outputs.facts import PICK_LABELS, comparison, db, mm, selected_index, unique_picks
+
+__all__ = ["risks", "stackup_table", "spread_table", "assumptions", "cautions",
+           "method_line", "OZ", "WIDE_TRACE", "THIN_DIELECTRIC", "SAFETY_CAUTION"]
+
+#: One ounce of copper foil per square foot, as finished thickness, m (34.3 um; the
+#: figure the cost tables use; common practice, no source).
+OZ = 34.3e-6
+#: A trace wider than this will not fan into the pads of a fine-pitch part (0.5-0.8 mm
+#: pitch parts have pads of about 0.25-0.45 mm) without a taper; common practice, no source.
+WIDE_TRACE = 0.6e-3
+#: Dielectrics thinner than this get the safety-insulation caution spelled out (0.4 mm is
+#: a distance-through-insulation figure often met in safety standards; from memory).
+THIN_DIELECTRIC = 0.4e-3
+SAFETY_CAUTION = (
+    "If any net on this board carries mains or another hazardous voltage, the insulation "
+    "through the dielectric between layers is a safety matter that this tool does not "
+    "check: follow the safety standard that applies to the product, the fab's qualified "
+    "materials and the advice of a licensed or otherwise qualified professional.")
+
+
+def method_line(result) -> str:
+    """The tool, the method and the counts in one sentence."""
+    from stackopt import __version__
+
+    name = {"exact": "exact search (pruned enumeration; the front is exact)",
+            "nsga2": "NSGA-II evolutionary search (an approximation of the front)"}
+    return (f"stackopt {__version__}, {name.get(result.method, result.method)}: "
+            f"{result.space_size:,} stackups in the design space, {result.evaluated:,} "
+            f"evaluated, {result.n:,} kept, {int(result.feasible.sum()):,} feasible, "
+            f"{int(result.meets.sum()):,} meeting every requirement; seed {result.seed}.")
+
+
+def _copper_weight(t: float) -> str:
+    oz = t / OZ
+    return f"{oz:.2g} oz ({t * 1e6:.0f} um)"
+
+
+def _line_text(result, i: int) -> list[str]:
+    out = []
+    for j, ln in enumerate(result.problem.scenario.lines):
+        w = float(result.evaluation.widths[i, j])
+        kind = "coplanar (CPWG)" if (ln.type == "cpwg" or bool(
+            result.evaluation.geometry.flags.get("coplanar", np.zeros(result.n, bool))[i])
+        ) else "microstrip"
+        out.append(f"{ln.name}: {ln.impedance:g} ohm {kind}, "
+                   + (mm(w) if math.isfinite(w) else "not reachable"))
+    return out
+
+
+def risks(result) -> list[str]:
+    """Risks of the choice, in words (line widths, safety insulation, model spread,
+    margin, lead time, layout rules the two-layer figure depends on)."""
+    ev, sc = result.evaluation, result.problem.scenario
+    g = ev.geometry
+    out: list[str] = []
+    sel = selected_index(result)
+    c = comparison(result)
+    cases = [(c.two, "best two-layer"), (sel, "recommended")]
+    for i, what in cases:
+        if i is None:
+            continue
+        for j, ln in enumerate(sc.lines):
+            w = float(ev.widths[i, j])
+            h = mm(g.ref_height[i])
+            if not math.isfinite(w):
+                out.append(f"On the {what} board ({result.ids[i]}) the {ln.impedance:g} ohm "
+                           f"line '{ln.name}' cannot reach its impedance within the width "
+                           "range searched.")
+            elif w > WIDE_TRACE:
+                out.append(f"On the {what} board ({result.ids[i]}, {h} to the nearest "
+                           f"plane) the {ln.impedance:g} ohm line '{ln.name}' is {mm(w)} "
+                           "wide: it will not fan into a fine-pitch part (pads of about "
+                           "0.25-0.45 mm) without a taper, which is an impedance step right "
+                           "at the part.")
+        if what == "best two-layer" and i is not None:
+            mit = [m.replace("_", " ") for m in result.problem.space.mitigations
+                   if g.flags[m][i]]
+            if mit:
+                out.append(f"The best two-layer figure assumes {', '.join(mit)}: layout "
+                           "rules the designer and the fab must actually follow.")
+    if sel is not None:
+        st = result.stackup(sel)
+        thin = min((d.thickness for d in st.dielectrics), default=math.inf)
+        if thin < THIN_DIELECTRIC:
+            out.append(f"The recommended stackup has dielectrics down to {mm(thin)} between "
+                       f"copper layers. {SAFETY_CAUTION}")
+        if result.spread:
+            worst = min(((float(v[sel]), m) for m, v in result.spread.items()
+                         if math.isfinite(float(v[sel]))), default=None)
+            if worst is not None and worst[0] < 0 <= ev.margin[sel]:
+                out.append(f"Under the {worst[1]} via model the recommended stackup misses "
+                           f"the requirements by {-worst[0]:.1f} dB: the models disagree; "
+                           "leave margin or confirm by measurement.")
+        if sc.requirements and 0 <= ev.margin[sel] < 3.0:
+            out.append(f"The recommended stackup has only {db(ev.margin[sel])} of margin; "
+                       "part tolerances and the fab's thickness tolerance can eat it.")
+        if c.two is not None and ev.lead_time_days[sel] > ev.lead_time_days[c.two]:
+            out.append(f"Lead time grows from {ev.lead_time_days[c.two]:g} to "
+                       f"{ev.lead_time_days[sel]:g} working days.")
+    if not out:
+        out.append("No specific risk found beyond the cautions below.")
+    return out
+
+
+def stackup_table(result) -> list[tuple]:
+    """The recommended stackup as a table for the fab drawing."""
+    sel = selected_index(result)
+    if sel is None:
+        return [("h2", "Recommended stackup"), ("p", "No candidate to recommend.")]
+    ev, tab = result.evaluation, result.problem.table
+    st = result.stackup(sel)
+    lines = _line_text(result, sel)
+    rows = []
+    for k, rec in enumerate(st.to_records()):
+        t = rec["thickness_m"]
+        if rec["kind"] == "copper":
+            rows.append([rec["name"], "copper", rec["role"], f"{t * 1e6:.0f} um", "", "",
+                         _copper_weight(t), "; ".join(lines) if k == 0 else ""])
+        else:
+            rows.append(["", rec["material"], f"{rec['kind']} ({rec['plies']} ply)"
+                         if rec["kind"] == "prepreg" else rec["kind"], mm(t),
+                         f"{rec['er']:.2f}", f"{rec['df']:.3f}", "", ""])
+    meets = "meets every requirement" if result.meets[sel] else "closest to the requirements"
+    mit = [m.replace("_", " ") for m in result.problem.space.mitigations
+           if ev.geometry.flags[m][sel]]
+    return [
+        ("h2", f"Recommended stackup: {result.ids[sel]} ({meets})"),
+        ("table", ["Layer", "Material", "Kind / role", "Thickness", "Dk", "Df", "Copper",
+                   "Controlled impedance (top layer)"], rows),
+        ("p", f"Finished thickness {mm(st.thickness)} ± "
+              f"{tab.capabilities.thickness_tolerance * 100:.0f} % (over copper, before "
+              f"mask and plating); drill {mm(ev.geometry.drill[sel])}; "
+              f"{int(ev.geometry.vias[sel])} via(s) per ground connection; mitigations: "
+              f"{', '.join(mit) or 'none'}. Widths are closed-form estimates: ask the fab "
+              "to adjust them to its materials."),
+    ]
+
+
+def spread_table(result) -> list[tuple]:
+    """Margin of each pick under every via model."""
+    if not result.spread:
+        return []
+    models = list(result.spread)
+    rows = []
+    for i, names in unique_picks(result):
+        vals = [float(result.spread[m][i]) for m in models]
+        fin = [v for v in vals if math.isfinite(v)]
+        rows.append([" / ".join(PICK_LABELS[n] for n in names), result.ids[i],
+                     *[db(v, sign=True) for v in vals],
+                     f"{max(fin) - min(fin):.1f} dB" if fin else "n/a"])
+    return [("h2", "Model spread"),
+            ("p", "Margin of each pick under every ground-via model (the search ranked with "
+                  f"{result.problem.scenario.search.via_model}). A large spread means the "
+                  "answer depends on the model: leave margin or measure."),
+            ("table", ["Pick", "Candidate", *models, "Spread"], rows)]
+
+
+def assumptions(result) -> list[str]:
+    """Models, quantities and data sources used."""
+    sc, tab = result.problem.scenario, result.problem.table
+    b = sc.board
+    fs = ", ".join(f"{r.label} ≥ {r.min_attenuation:g} dB" for r in sc.requirements)
+    return [
+        f"Board {mm(b.width)} x {mm(b.height)}, lot of {b.quantity:,}; prices from the cost "
+        f"table '{tab.fab}' in {tab.currency}"
+        + (" (invented demo data)." if tab.invented else "."),
+        f"Requirements: {fs or 'none'}; margin is the worst of (attenuation - required).",
+        f"Circuit: the scenario's circuit at {sc.circuit.z0:g} ohm, solved by nodal "
+        "analysis with each ground connection's partial inductance (pad trace plus vias, "
+        "mutual inductance between vias) in series with its element.",
+        f"Ground-via model for ranking: {sc.search.via_model}; the model spread re-scores the "
+        "front and the picks under every via model.",
+        "Controlled-impedance widths: closed-form microstrip / grounded-coplanar synthesis on "
+        "the dielectric under the top copper, with the catalogue Dk.",
+        "Stackups: foil lamination, outer dielectrics prepreg, inner ones alternating core / "
+        "prepreg; only materials in the cost table; "
+        + ("symmetric constructions." if sc.space.symmetric else "asymmetric allowed."),
+    ]
+
+
+def cautions(result) -> list[str]:
+    """What the numbers are not."""
+    out = [
+        "Every figure is a closed-form estimate, not a field-solver result or a measurement. "
+        "Confirm the stackup, the pressed thicknesses and the impedances with the fab before "
+        "release; the fab will adjust widths to its own materials.",
+        "Costs come from the cost table, not from a quote; confirm them with the fab.",
+        SAFETY_CAUTION,
+    ]
+    if result.method == "nsga2":
+        out.append("The search was evolutionary: the front is approximate and a better "
+                   "stackup may exist that was not evaluated.")
+    return out
