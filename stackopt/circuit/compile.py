@@ -165,9 +165,10 @@ def compile_circuit(spec: Circuit) -> CompiledCircuit:
     mutual = np.zeros((len(el), len(el)))
     for cp in spec.couplings:
         i, j = ename.index(cp.between[0]), ename.index(cp.between[1])
-        mutual[i, j] = mutual[j, i] = cp.k * math.sqrt(el[i].value * el[j].value)
+        mutual[i, j] = mutual[j, i] = cp.k * math.sqrt(float(el[i].value or 0.0)
+                                                       * float(el[j].value or 0.0))
     if spec.couplings:
-        lmat = mutual + np.diag([e.value if e.type == "L" else 1.0 for e in el])
+        lmat = mutual + np.diag([float(e.value or 0.0) if e.type == "L" else 1.0 for e in el])
         if np.linalg.eigvalsh(lmat).min() <= 0:
             raise InputError("the inductor couplings are not passive (inductance matrix not "
                              "positive definite)", key="circuit.couplings",

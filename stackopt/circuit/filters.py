@@ -127,7 +127,8 @@ def filter_circuit(spec: FilterSpec, z0: float, input: str = "in", output: str =
     if (n_series and input == output) or any(n in (input, output) for n in chain[1:-1]):
         raise ValueError("filter port nodes must be two names other than n1, n2, ...; "
                          "rename 'input'/'output'")
-    elements, grounds = [], []
+    elements: list[Element] = []
+    grounds: list[Ground] = []
     node = 0
     for k, (gk, is_shunt) in enumerate(zip(g, shunt, strict=True), start=1):
         # low-pass: shunt C = g/(wc z0), series L = g z0/wc; high-pass: shunt L, series C
@@ -142,11 +143,13 @@ def filter_circuit(spec: FilterSpec, z0: float, input: str = "in", output: str =
                 gname = f"g{k}"
                 grounds.append(Ground(name=gname, at=(len(grounds) * spec.spacing, 0.0),
                                       **spec.ground.model_dump()))
-            elements.append(Element(name=f"{typ}{k}", type=typ, value=value, ground=gname,
-                                    between=(chain[node], GROUND_NODE), **par))
+            elements.append(Element.model_validate(
+                {"name": f"{typ}{k}", "type": typ, "value": value, "ground": gname,
+                 "between": (chain[node], GROUND_NODE), **par}))
         else:
-            elements.append(Element(name=f"{typ}{k}", type=typ, value=value,
-                                    between=(chain[node], chain[node + 1]), **par))
+            elements.append(Element.model_validate(
+                {"name": f"{typ}{k}", "type": typ, "value": value,
+                 "between": (chain[node], chain[node + 1]), **par}))
             node += 1
     return Circuit(z0=z0, input=input, output=output, elements=tuple(elements),
                    grounds=tuple(grounds))

@@ -69,8 +69,9 @@ class GroundBatch:
 
     def __post_init__(self) -> None:
         kinds = {"vias": int, "via_in_pad": bool, "own_vias": bool}
-        arrs = {f.name: np.asarray(getattr(self, f.name), dtype=kinds.get(f.name, float))
-                for f in fields(self)}
+        arrs: dict[str, np.ndarray] = {
+            f.name: np.asarray(getattr(self, f.name), dtype=kinds.get(f.name, float))
+            for f in fields(self)}
         shapes = {a.shape for a in arrs.values()}
         if len(shapes) != 1 or len(next(iter(shapes))) != 1:
             raise InputError(f"GroundBatch arrays must be 1-D of one length, got {shapes}",

@@ -66,8 +66,8 @@ def mna_s(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray | None) -
         base[:, p, p] += 1.0 / c.z0 * c.ports.count(p)
     for e in sb:  # admittance stamps (a handful of elements)
         y = 1.0 / ze[:, e]
-        for p, q, sign in ((c.node_a[e], c.node_a[e], 1), (c.node_b[e], c.node_b[e], 1),
-                           (c.node_a[e], c.node_b[e], -1), (c.node_b[e], c.node_a[e], -1)):
+        for p, q, sign in ((c.node_a[e], c.node_a[e], 1.0), (c.node_b[e], c.node_b[e], 1.0),
+                           (c.node_a[e], c.node_b[e], -1.0), (c.node_b[e], c.node_a[e], -1.0)):
             if p >= 0 and q >= 0:
                 base[:, p, q] += sign * y
     for j, e in enumerate(cb):

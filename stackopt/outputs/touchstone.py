@@ -33,11 +33,11 @@ def touchstone_text(freqs: ArrayLike, s: ArrayLike, z0: float, comment: str = ""
         Free text written as ``!`` lines at the top (may hold newlines).
     """
     f = np.asarray(freqs, dtype=float).reshape(-1)
-    s = np.asarray(s, dtype=complex)
-    if s.ndim == 4 and s.shape[0] == 1:
-        s = s[0]
-    if s.shape != (len(f), 2, 2):
-        raise InputError(f"S-parameters of shape {s.shape} do not match {len(f)} "
+    arr = np.asarray(s, dtype=complex)
+    if arr.ndim == 4 and arr.shape[0] == 1:
+        arr = arr[0]
+    if arr.shape != (len(f), 2, 2):
+        raise InputError(f"S-parameters of shape {arr.shape} do not match {len(f)} "
                          "frequencies of a two-port", fix="pass one response (F, 2, 2)")
     if np.any(np.diff(f) <= 0) or not z0 > 0:
         raise InputError("Touchstone needs increasing frequencies and z0 > 0",
@@ -45,7 +45,7 @@ def touchstone_text(freqs: ArrayLike, s: ArrayLike, z0: float, comment: str = ""
     lines = [f"! {c}".rstrip() for c in comment.splitlines()] if comment else []
     lines.append(f"# Hz S RI R {z0:.12g}")
     order = ((0, 0), (1, 0), (0, 1), (1, 1))  # N11 N21 N12 N22
-    for fi, si in zip(f, s, strict=True):
+    for fi, si in zip(f, arr, strict=True):
         vals = " ".join(f"{si[i, j].real:.12e} {si[i, j].imag:.12e}" for i, j in order)
         lines.append(f"{fi:.12e} {vals}")
     return "\n".join(lines) + "\n"
