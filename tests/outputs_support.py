@@ -1,5 +1,4 @@
-"""Shared fixtures of the output tests: one demo search, cached for the session
-(import the fixtures into a test module; the search itself runs once per process)."""
+"""Helpers of the output tests: the demo search, run once per process and cached."""
 
 from __future__ import annotations
 
@@ -7,33 +6,22 @@ import dataclasses
 import functools
 from pathlib import Path
 
-import pytest
-
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "scenarios" / "harmonic_lowpass.yaml"
 
 
 @functools.lru_cache(maxsize=4)
 def run(scenario=DEMO, table=None):
+    """The demo scenario searched (invented demo data; about a second)."""
     import stackopt
 
     return stackopt.optimize(scenario, table)
 
 
-@pytest.fixture(scope="session")
-def demo_result():
-    """The demo scenario searched once (invented demo data; about a second)."""
-    return run()
-
-
-@pytest.fixture(scope="session")
-def demo_out(demo_result, tmp_path_factory):
-    """The demo's outputs written once."""
-    from stackopt.outputs.bundle import write_all
-
-    out = tmp_path_factory.mktemp("outputs") / "demo"
-    paths = write_all(demo_result, out)
-    return out, paths
+@functools.lru_cache(maxsize=1)
+def second_run():
+    """An independent second search of the demo (for determinism checks)."""
+    return run.__wrapped__()
 
 
 def renamed(result, name: str):
