@@ -25,12 +25,12 @@ def register(sub: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Evaluate and print."""
-    from stackopt.inputs.stackupfile import load_stackup_file
+    from stackopt.inputs.stackup_file import load_selected
     from stackopt.search.problem import Problem
     from stackopt.search.single import evaluate_stackup
 
     inp = load_inputs(args.scenario, args.costs)
-    sf = load_stackup_file(args.stackup)
+    sf = load_selected(args.stackup)
     problem = Problem(inp.scenario, inp.table)
     ev = evaluate_stackup(problem, sf, args.stackup)
     g = ev.geometry

@@ -69,7 +69,7 @@ def run(args: argparse.Namespace) -> int:
     """Run the search and write every output file."""
     import stackopt
     from stackopt.outputs.files import prepare_out_dir
-    from stackopt.outputs.writer import write_all
+    from stackopt.outputs.bundle import write_all
 
     inp = load_inputs(args.scenario, args.costs)
     out = Path(args.out) if args.out else Path("stackopt-out") / safe_dirname(inp.scenario.name)

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import time
 from collections.abc import Callable
 from pathlib import Path
 from typing import Literal
@@ -85,7 +84,6 @@ def optimize(
         raise InputError("the design space is empty: no layer count or drill of the scenario "
                          "is offered by the fab", key="space",
                          fix="allow layer counts and drills that the cost table prices")
-    t0 = time.perf_counter()
     work = exact_work(problem)
     if method == "auto":
         method = "exact" if (work <= EXACT_WORK_LIMIT and sp.third_objective is None
@@ -106,7 +104,6 @@ def optimize(
         cands = archive.candidates(problem.space.n_slots)
         evaluated = archive.evaluations
     ev = problem.evaluate(cands)
-    stats["seconds_search"] = round(time.perf_counter() - t0, 3)
     result = Result(problem, cands, ev, method, evaluated, seed, stats=stats)
     # model spread: the front and the picks re-scored under every via model
     keep = np.zeros(len(cands), dtype=bool)

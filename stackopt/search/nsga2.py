@@ -17,9 +17,11 @@ from pymoo.algorithms.moo.nsga2 import NSGA2
 from pymoo.core.duplicate import DefaultDuplicateElimination
 from pymoo.core.problem import Problem as PymooProblem
 from pymoo.core.sampling import Sampling
+from pymoo.core.survival import Survival
 from pymoo.operators.crossover.sbx import SBX
 from pymoo.operators.mutation.pm import PM
 from pymoo.operators.repair.rounding import RoundingRepair
+from pymoo.operators.survival.rank_and_crowding import RankAndCrowding
 from pymoo.optimize import minimize
 
 from stackopt.search.problem import Problem
@@ -93,6 +95,50 @@ class _Stratified(Sampling):
         return x.astype(float)
 
 
+def _quotas(total: int, sizes: list[int]) -> list[int]:
+    """Split ``total`` survivors equally over groups, passing on what a small group cannot
+    use (deterministic)."""
+    quota = [0] * len(sizes)
+    left, open_ = total, [i for i, n in enumerate(sizes) if n > 0]
+    while left > 0 and open_:
+        share = max(left // len(open_), 1)
+        for i in list(open_):
+            take = min(share, sizes[i] - quota[i], left)
+            quota[i] += take
+            left -= take
+            if quota[i] >= sizes[i]:
+                open_.remove(i)
+            if left == 0:
+                break
+    return quota
+
+
+class _LayerNiches(Survival):
+    """Rank-and-crowding survival within each layer count, with an equal share of the
+    population for each: a two-layer board needs several genes right at once (core, line
+    width, thickness window) and would otherwise be crowded out by feasible multilayer
+    boards before the first feasible one is found."""
+
+    def __init__(self, space) -> None:
+        super().__init__(filter_infeasible=False)
+        self.space = space
+        self.inner = RankAndCrowding()
+
+    def _do(self, problem, pop, *args, n_survive=None, random_state=None, **kwargs):
+        n_arr = len(self.space.arrangements)
+        arr = np.clip(np.rint(pop.get("X")[:, 0]).astype(np.int64), 0, n_arr - 1)
+        layers = self.space.layer_counts[arr]
+        groups = [np.flatnonzero(layers == lv) for lv in np.unique(self.space.layer_counts)]
+        n_survive = len(pop) if n_survive is None else n_survive
+        keep = []
+        for g, q in zip(groups, _quotas(n_survive, [len(g) for g in groups]), strict=True):
+            if q:
+                idx = self.inner.do(problem, pop[g], n_survive=q, random_state=random_state,
+                                    return_indices=True)
+                keep.append(g[np.asarray(idx, dtype=np.int64)])
+        return pop[np.concatenate(keep)]
+
+
 def _board_key(space):
     def key(pop):
         return decode_genome(space, pop.get("X")).matrix().astype(float)
@@ -114,6 +160,7 @@ def run_nsga2(problem: Problem, budget: int, seed: int, pop_size: int = 100,
         sampling=_Stratified(space),
         crossover=SBX(prob=0.9, eta=15, vtype=float, repair=RoundingRepair()),
         mutation=PM(eta=20, vtype=float, repair=RoundingRepair()),
+        survival=_LayerNiches(space),
         eliminate_duplicates=DefaultDuplicateElimination(func=_board_key(space)),
     )
     minimize(pp, algo, ("n_evals", budget), seed=seed, verbose=False)

@@ -6,7 +6,7 @@ import numpy as np
 
 from stackopt.errors import InputError, did_you_mean
 from stackopt.model.stackup import Stackup
-from stackopt.model.stackupfile import StackupFile
+from stackopt.inputs.stackup_file import SelectedStackup
 from stackopt.search.problem import Evaluation, Problem
 from stackopt.search.space import Geometry
 
@@ -34,9 +34,13 @@ def _counts(problem: Problem, st: Stackup, file: str | None) -> np.ndarray:
     return counts
 
 
-def stackup_geometry(problem: Problem, sf: StackupFile, file: str | None = None) -> Geometry:
-    """Geometry arrays (a batch of one) for a stackup file."""
-    st = sf.to_stackup()
+def stackup_geometry(problem: Problem, sf: SelectedStackup, file: str | None = None
+                     ) -> Geometry:
+    """Geometry arrays (a batch of one) for a stackup file; a drill or via count the file
+    leaves out is the scenario's first."""
+    st = sf.stackup
+    drill = sf.drill if sf.drill is not None else problem.scenario.space.drills[0]
+    vias = sf.vias_per_ground or problem.scenario.space.vias_per_ground[0]
     if st.ground_plane(0) is None:
         raise InputError("the stackup has no ground or plane layer for the vias to reach",
                          file=file, key="stackup",
@@ -55,11 +59,11 @@ def stackup_geometry(problem: Problem, sf: StackupFile, file: str | None = None)
         copper=np.array([st.copper[0].thickness]), thickness=np.array([st.thickness]),
         depth=np.array([st.via_depth(0)]), ref_height=np.array([ref_h]),
         ref_er=np.array([ref_er]), min_dielectric=t.min(axis=1),
-        drill=np.array([sf.drill]), vias=np.array([sf.vias_per_ground]),
+        drill=np.array([drill]), vias=np.array([vias]),
         material_counts=_counts(problem, st, file)[None, :], flags=flags)
 
 
-def evaluate_stackup(problem: Problem, sf: StackupFile, file: str | None = None
+def evaluate_stackup(problem: Problem, sf: SelectedStackup, file: str | None = None
                      ) -> Evaluation:
     """Every metric of one stackup, priced by the problem's fab."""
     return problem.evaluate_geometry(stackup_geometry(problem, sf, file))
