@@ -150,9 +150,6 @@ def test_two_runs_byte_identical(demo_result):
     assert sa == sb
 
 
-@pytest.mark.xfail(reason="Result.to_summary() records stats.seconds_search, a wall-clock "
-                          "timing; byte-identical summaries need it out of the file",
-                   strict=False)
 def test_summary_json_byte_identical(demo_result):
     assert summary_json(second_run()) == summary_json(demo_result)
 

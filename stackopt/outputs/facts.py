@@ -80,18 +80,9 @@ def selected_index(result) -> int | None:
 
 def cost_items(result, idx) -> dict[str, np.ndarray]:
     """Itemised unit cost (name -> (k,) array, summing to the unit cost) of candidates
-    ``idx``, re-priced from the fab table exactly as the search priced them."""
-    from stackopt.cost import price
-
+    ``idx``, as the search priced them."""
     idx = np.asarray(idx, dtype=np.int64)
-    pb = result.problem
-    g = pb.space.geometry(result.candidates.take(idx))
-    w = result.evaluation.widths[idx]
-    finite = np.where(np.isfinite(w), w, np.inf)
-    narrow = finite.min(axis=1, initial=np.inf)
-    narrow = np.where(np.isfinite(narrow), narrow, np.nan)
-    pr = price(pb.table, pb.order, pb.price_batch(g, narrow))
-    return dict(pr.items)
+    return {k: v[idx] for k, v in result.evaluation.cost_items.items()}
 
 
 def sweep_freqs(result, n: int = 361) -> np.ndarray:
@@ -121,13 +112,7 @@ def responses(result, idx, freqs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 def top_dielectric(result) -> np.ndarray:
     """Name of the dielectric under the top copper of every candidate (N,) str."""
-    sp, c = result.problem.space, result.candidates
-    out = np.empty(result.n, dtype=object)
-    for a_i, a in enumerate(sp.arrangements):  # a handful of arrangements
-        rows = c.arr == a_i
-        names = np.array(sp.options[a.slot_kinds[0]].names, dtype=object)
-        out[rows] = names[c.slot[rows, 0]]
-    return out
+    return result.problem.space.slot_names(result.candidates)[:, 0]
 
 
 def shortfalls(result, i: int) -> list[tuple[str, float, float, float]]:

@@ -185,9 +185,10 @@ class Result:
             self.problem.space
         c = self.candidates
         arr_names = np.array([a.name for a in sp.arrangements])
-        mats = []
-        for i in range(self.n):  # strings for people; numbers stay vectorized below
-            mats.append(" / ".join(sp.describe(c, i)["materials"]))
+        names = sp.slot_names(c)
+        rows, inv = np.unique(names.astype(str), axis=0, return_inverse=True)
+        mats = np.array([" / ".join(x for x in r if x) for r in rows], dtype=object)[
+            inv.reshape(-1)]
         cols: dict[str, object] = {
             "id": self.ids,
             "layers": g.layers,
@@ -213,9 +214,22 @@ class Result:
             cols[f"width_{ln.name}_m"] = ev.widths[:, j]
         cols["feasible"] = self.feasible
         cols["meets_requirements"] = self.meets
-        cols["violations"] = ["; ".join(ev.violated(i)) for i in range(self.n)]
+        cols["violations"] = self._violation_text()
         cols["on_front"] = self.on_front
         return pd.DataFrame(cols)
+
+    def _violation_text(self) -> np.ndarray:
+        """The constraints each candidate violates, as text (vectorized over candidates)."""
+        parts = [np.where(v > 0, np.char.add(np.char.add(f"{k} (+", np.char.mod("%.3g", v)),
+                                             ")"), "")
+                 for k, v in self.evaluation.violations.items()]
+        if not parts:
+            return np.full(self.n, "", dtype=object)
+        text = parts[0].astype(object)
+        for p in parts[1:]:
+            sep = np.where((text != "") & (p != ""), "; ", "")
+            text = text + sep + p.astype(object)
+        return text
 
     def to_summary(self, extra: dict | None = None) -> dict:
         """The JSON-ready summary (see the README for the contract)."""

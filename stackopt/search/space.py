@@ -253,6 +253,16 @@ class Space:
             flags={m: c.mit[:, i] for i, m in enumerate(self.mitigations)},
         )
 
+    def slot_names(self, c: Candidates) -> np.ndarray:
+        """Material name of every dielectric slot, (N, S) object array ('' where unused)."""
+        out = np.full((len(c), self.n_slots), "", dtype=object)
+        for ai, a in enumerate(self.arrangements):  # a handful of arrangements
+            rows = c.arr == ai
+            for s, kind in enumerate(a.slot_kinds):
+                names = np.array(self.options[kind].names, dtype=object)
+                out[rows, s] = names[c.slot[rows, s]]
+        return out
+
     def describe(self, c: Candidates, i: int) -> dict:
         """One candidate in words: arrangement, materials per slot, copper, drill, vias."""
         a = self.arrangements[int(c.arr[i])]
