@@ -17,8 +17,10 @@ __all__ = [
     "UnitError",
     "ModelError",
     "OutputError",
+    "StackoptWarning",
     "did_you_mean",
     "format_key_path",
+    "one_line",
 ]
 
 
@@ -41,6 +43,24 @@ def did_you_mean(word: str, choices: Iterable[str]) -> str:
     """Return ``" (did you mean 'x'?)"`` for the closest choice, or ``""``."""
     close = difflib.get_close_matches(str(word), [str(c) for c in choices], n=1, cutoff=0.6)
     return f" (did you mean '{close[0]}'?)" if close else ""
+
+
+def one_line(message: str, *, file: str | None = None, key: str = "",
+             line: int | None = None, column: int | None = None,
+             fix: str | None = None) -> str:
+    """``file:line:column: key: message; fix`` on one line (the parts that are known)."""
+    where = ""
+    if file:
+        where = file
+        if line is not None:
+            where += f":{line}"
+            if column is not None:
+                where += f":{column}"
+    head = ": ".join(p for p in (where, key) if p)
+    text = f"{head}: {message}" if head else message
+    if fix:
+        text += f"; {fix}"
+    return " ".join(text.split())  # always one line
 
 
 class StackoptError(Exception):
@@ -85,23 +105,8 @@ class InputError(ValueError, StackoptError):
         super().__init__(self._render())
 
     def _render(self) -> str:
-        where = ""
-        if self.file:
-            where = self.file
-            if self.line is not None:
-                where += f":{self.line}"
-                if self.column is not None:
-                    where += f":{self.column}"
-        parts = []
-        if where:
-            parts.append(where)
-        if self.key:
-            parts.append(self.key)
-        head = ": ".join(parts)
-        text = f"{head}: {self.message}" if head else self.message
-        if self.fix:
-            text += f"; {self.fix}"
-        return " ".join(text.split())  # always one line
+        return one_line(self.message, file=self.file, key=self.key, line=self.line,
+                        column=self.column, fix=self.fix)
 
     def located(
         self,
@@ -127,6 +132,36 @@ class InputError(ValueError, StackoptError):
             fix=self.fix,
         )
         return err
+
+
+class StackoptWarning(UserWarning):
+    """A legal but unusual input value (e.g. a Dk above 10, a requirement above 20 GHz).
+
+    The library only *issues* these (``warnings.warn(StackoptWarning(...))``); it never
+    prints. The CLI collects them and prints one ``stackopt: warning: ...`` line each;
+    library users see them through Python's :mod:`warnings` machinery (and may filter
+    them or turn them into errors there). ``str()`` is one line, located like
+    :class:`InputError`.
+    """
+
+    def __init__(
+        self,
+        message: str,
+        *,
+        file: str | Path | None = None,
+        key: Sequence[str | int] | str | None = None,
+        line: int | None = None,
+        column: int | None = None,
+        fix: str | None = None,
+    ) -> None:
+        self.message = message
+        self.file = str(file) if file is not None else None
+        self.key = format_key_path(key)
+        self.line = line
+        self.column = column
+        self.fix = fix
+        super().__init__(one_line(message, file=self.file, key=self.key, line=line,
+                                  column=column, fix=fix))
 
 
 class UnitError(InputError):

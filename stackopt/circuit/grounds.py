@@ -114,7 +114,7 @@ def _terminal_vias(c: CompiledCircuit, batch: GroundBatch
     drill = np.where(np.isnan(c.conn_drill[conn]), batch.drill[:, None], c.conn_drill[conn])
     pitch = np.where(np.isnan(c.conn_pitch[conn]), DEFAULT_PITCH_DRILLS * drill,
                      c.conn_pitch[conn])
-    vmax = int(count.max())
+    vmax = int(count.max(initial=1))  # initial: an empty batch (N = 0) is valid
     xy = np.zeros(count.shape + (vmax, 2))
     for v in np.unique(count):  # a handful of via counts
         row = np.zeros(count.shape + (vmax, 2))

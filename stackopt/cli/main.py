@@ -1,19 +1,24 @@
 """The ``stackopt`` command: a thin layer that parses, calls the library and prints.
 
 Exit codes: 0 success (an infeasible search is an answer, not a failure), 2 a user error
-(one line on stderr), 1 an internal error (with how to report it). ``--debug`` shows the
-traceback.
+(one line on stderr), 1 an internal error (with how to report it). ``--debug`` (before or
+after the command name) shows the traceback. Legal but unusual inputs are reported by the
+library as :class:`~stackopt.errors.StackoptWarning`; they are printed here, one
+``stackopt: warning: ...`` line each, before the command's result or error.
 """
 
 from __future__ import annotations
 
 import argparse
+import contextlib
 import importlib
+import os
 import sys
+import warnings
 from collections.abc import Sequence
 
 from stackopt import __version__
-from stackopt.errors import InputError, StackoptError
+from stackopt.errors import InputError, StackoptError, StackoptWarning
 
 #: Sub-command modules; each defines ``register(subparsers)`` which sets ``func``.
 COMMANDS = ("stackopt.cli.calc", "stackopt.cli.optimize", "stackopt.cli.check",
@@ -21,7 +26,14 @@ COMMANDS = ("stackopt.cli.calc", "stackopt.cli.optimize", "stackopt.cli.check",
 
 
 class _Parser(argparse.ArgumentParser):
-    """argparse that raises a one-line InputError instead of printing usage and exiting."""
+    """argparse that raises a one-line InputError instead of printing usage and exiting;
+    every (sub-)parser takes ``--debug``."""
+
+    def __init__(self, *args, **kwargs) -> None:
+        super().__init__(*args, **kwargs)
+        # SUPPRESS: a sub-command's default must not undo the top-level flag
+        self.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                          help="show tracebacks on errors")
 
     def error(self, message: str) -> None:  # type: ignore[override]
         raise InputError(f"{message}", key=self.prog,
@@ -38,7 +50,6 @@ def build_parser() -> argparse.ArgumentParser:
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument("--version", action="version", version=f"stackopt {__version__}")
-    parser.add_argument("--debug", action="store_true", help="show tracebacks on errors")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     for name in COMMANDS:
         try:
@@ -55,6 +66,33 @@ def main(argv: Sequence[str] | None = None) -> int:
     """Run the CLI and return the exit code (never raises for user errors)."""
     argv = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in argv
+    with warnings.catch_warnings():  # restores the filters and showwarning afterwards
+        if not debug:  # numerical warnings of the library are noise to a user
+            warnings.simplefilter("ignore")
+        warnings.simplefilter("always", StackoptWarning)
+        warnings.showwarning = _WarningPrinter(warnings.showwarning)
+        return _run(argv, debug)
+
+
+class _WarningPrinter:
+    """``warnings.showwarning`` for the CLI: a StackoptWarning is one
+    ``stackopt: warning: ...`` line on stderr (each text once); others as Python shows them."""
+
+    def __init__(self, fallback) -> None:
+        self.fallback = fallback
+        self.seen: set[str] = set()
+
+    def __call__(self, message, category, filename, lineno, file=None, line=None) -> None:
+        if not isinstance(message, StackoptWarning):
+            self.fallback(message, category, filename, lineno, file, line)
+            return
+        text = str(message)
+        if text not in self.seen:
+            self.seen.add(text)
+            print(f"stackopt: warning: {text}", file=sys.stderr)
+
+
+def _run(argv: list[str], debug: bool) -> int:
     try:
         parser = build_parser()
         args = parser.parse_args(argv)
@@ -70,12 +108,19 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("stackopt: interrupted; no partial output was kept", file=sys.stderr)
         return 130
+    except BrokenPipeError:  # `stackopt check x.yaml | head`: the reader left; not a bug
+        with contextlib.suppress(OSError, ValueError):
+            sys.stdout = open(os.devnull, "w")  # noqa: SIM115 - Python's own advice
+        return 1
     except Exception as exc:  # noqa: BLE001 - the last line of defence
         if debug:
             raise
-        print(f"stackopt: internal error: {type(exc).__name__}: {exc}. This is a bug; "
-              "please report it with the command and input files (rerun with --debug "
-              "for the traceback).", file=sys.stderr)
+        text = " ".join(f"{type(exc).__name__}: {exc}".split())
+        if len(text) > 300:
+            text = text[:297] + "..."
+        print(f"stackopt: internal error: {text}. This is a bug; please report it with the "
+              "command and input files (rerun with --debug for the traceback).",
+              file=sys.stderr)
         return 1
 
 

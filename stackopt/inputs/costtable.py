@@ -17,6 +17,7 @@ import pandas as pd
 from pydantic import ValidationError
 
 from stackopt.errors import InputError
+from stackopt.inputs.sanity import check_cost_table
 from stackopt.inputs.validate import validate_model
 from stackopt.inputs.yamlio import Document, load_yaml
 from stackopt.model.costtable import CostTable, TableRuleError
@@ -161,7 +162,7 @@ def load_cost_table(path: str | Path) -> CostTable:
     if not isinstance(data, dict):
         return validate_model(CostTable, doc, data=data)  # raises: empty / not a mapping
     try:
-        return CostTable.model_validate(data)
+        table = CostTable.model_validate(data)
     except ValidationError as exc:
         err = exc.errors(include_url=False)[0]
         ctx = (err.get("ctx") or {}).get("error")
@@ -176,7 +177,9 @@ def load_cost_table(path: str | Path) -> CostTable:
             raise csv.error(msg, loc, fix) from None
         if isinstance(ctx, TableRuleError):
             raise doc.error(msg, loc, fix) from None
-    return validate_model(CostTable, doc, data=data)  # raises the located pydantic error
+        return validate_model(CostTable, doc, data=data)  # raises the located pydantic error
+    check_cost_table(table, doc)  # physical ranges: errors, and warnings for odd values
+    return table
 
 
 def load_demo_cost_table() -> CostTable:

@@ -6,6 +6,7 @@ from importlib import resources
 from pathlib import Path
 
 from stackopt.errors import InputError
+from stackopt.inputs.sanity import check_scenario
 from stackopt.inputs.validate import validate_model
 from stackopt.inputs.yamlio import load_yaml
 from stackopt.model.costtable import CostTable
@@ -17,7 +18,9 @@ __all__ = ["load_scenario", "scenario_cost_table", "demo_paths"]
 def load_scenario(path: str | Path) -> Scenario:
     """Read and validate a scenario file; errors are one line naming file, line and key."""
     doc = load_yaml(path)
-    return validate_model(Scenario, doc)
+    scenario = validate_model(Scenario, doc)
+    check_scenario(scenario, doc)  # physical ranges: errors, and warnings for odd values
+    return scenario
 
 
 def scenario_cost_table(scenario: Scenario, scenario_path: str | Path) -> CostTable | None:

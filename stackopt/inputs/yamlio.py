@@ -15,6 +15,12 @@ from stackopt.errors import InputError
 
 KeyPath = tuple[str | int, ...]
 
+#: Largest input file read (bytes); scenarios and cost tables are a few kB.
+MAX_BYTES = 20_000_000
+#: Most YAML nodes built from one file (aliases expand at every use, so a few lines can
+#: otherwise ask for billions: the "billion laughs" pattern).
+MAX_NODES = 1_000_000
+
 __all__ = ["Document", "load_yaml", "parse_yaml_text"]
 
 
@@ -45,7 +51,15 @@ class _Loader(yaml.SafeLoader):
     pass
 
 
-def _walk(loader: _Loader, node: yaml.Node, path: KeyPath, marks: dict, file: str) -> Any:
+class _TooBig(Exception):
+    pass
+
+
+def _walk(loader: _Loader, node: yaml.Node, path: KeyPath, marks: dict, file: str,
+          budget: list[int]) -> Any:
+    budget[0] -= 1
+    if budget[0] < 0:
+        raise _TooBig
     marks.setdefault(path, (node.start_mark.line + 1, node.start_mark.column + 1))
     if isinstance(node, yaml.MappingNode):
         loader.flatten_mapping(node)
@@ -64,20 +78,22 @@ def _walk(loader: _Loader, node: yaml.Node, path: KeyPath, marks: dict, file: st
                                  fix="keep one of them; YAML would silently keep only the last")
             sub = path + (key if isinstance(key, int) else str(key),)
             marks[sub] = (key_node.start_mark.line + 1, key_node.start_mark.column + 1)
-            out[key] = _walk(loader, value_node, sub, marks, file)
+            out[key] = _walk(loader, value_node, sub, marks, file, budget)
         return out
     if isinstance(node, yaml.SequenceNode):
-        return [_walk(loader, n, path + (i,), marks, file) for i, n in enumerate(node.value)]
+        return [_walk(loader, n, path + (i,), marks, file, budget)
+                for i, n in enumerate(node.value)]
     return loader.construct_object(node, deep=True)
 
 
 def parse_yaml_text(text: str, file: str = "<text>") -> Document:
     """Parse YAML text into a :class:`Document` (see :func:`load_yaml`)."""
-    loader = _Loader(text)
+    marks: dict[KeyPath, tuple[int, int]] = {}
+    loader = None
     try:
+        loader = _Loader(text)
         node = loader.get_single_node()
-        marks: dict[KeyPath, tuple[int, int]] = {}
-        data = None if node is None else _walk(loader, node, (), marks, file)
+        data = None if node is None else _walk(loader, node, (), marks, file, [MAX_NODES])
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark or exc.context_mark
         line = mark.line + 1 if mark else None
@@ -85,10 +101,23 @@ def parse_yaml_text(text: str, file: str = "<text>") -> Document:
         problem = exc.problem or exc.context or "YAML syntax error"
         raise InputError(f"YAML syntax error: {problem}", file=file, line=line, column=col,
                          fix="check indentation, colons and quotes near that line") from None
+    except yaml.reader.ReaderError as exc:  # a control character: not a text file
+        line = text.count("\n", 0, exc.position) + 1
+        col = exc.position - (text.rfind("\n", 0, exc.position) + 1) + 1
+        raise InputError(f"character {exc.character!r} is not allowed in YAML", file=file,
+                         line=line, column=col,
+                         fix="remove it; save the file as plain UTF-8 text") from None
     except yaml.YAMLError as exc:
-        raise InputError(f"YAML error: {exc}", file=file, fix="check the file's syntax") from None
+        msg = " ".join(str(exc).split())
+        raise InputError(f"YAML error: {msg}", file=file, fix="check the file's syntax") from None
+    except (RecursionError, _TooBig):
+        raise InputError("the YAML is nested too deeply, refers to itself or expands to "
+                         "too much data through aliases (&name / *name)", file=file,
+                         fix="write the values out plainly; a scenario or cost table needs "
+                         "no aliases") from None
     finally:
-        loader.dispose()
+        if loader is not None:
+            loader.dispose()
     return Document(data=data, file=file, marks=marks)
 
 
@@ -102,7 +131,11 @@ def load_yaml(path: str | Path) -> Document:
     """
     p = Path(path)
     try:
-        raw = p.read_bytes()
+        if p.exists() and not p.is_dir() and not p.is_file():
+            raise InputError("is not a regular file (a device, pipe or socket)", file=p,
+                             fix="name a .yaml file")
+        with p.open("rb") as fh:
+            raw = fh.read(MAX_BYTES + 1)
     except FileNotFoundError:
         raise InputError("file not found", file=p, fix="check the path") from None
     except IsADirectoryError:
@@ -110,6 +143,9 @@ def load_yaml(path: str | Path) -> Document:
     except OSError as exc:
         raise InputError(f"cannot read file ({exc.strerror})", file=p,
                          fix="check the path and its permissions") from None
+    if len(raw) > MAX_BYTES:
+        raise InputError(f"file is larger than {MAX_BYTES // 1_000_000} MB; it is not a "
+                         "scenario or cost table", file=p, fix="check the path")
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:

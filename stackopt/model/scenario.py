@@ -165,7 +165,7 @@ class SearchSpec(BaseModel):
     third_objective: Literal["lead_time"] | None = None
     method: Literal["auto", "exact", "nsga2"] = "auto"
     budget: int = Field(20_000, ge=100, le=10_000_000)
-    seed: int = Field(1, ge=0)
+    seed: int = Field(1, ge=0, le=2**32 - 1)
     via_model: ViaModelName = "goldfarb-pucel"
 
     @model_validator(mode="after")
