@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 
 from stackopt.errors import InputError, did_you_mean
-from stackopt.model.stackup import Stackup
 from stackopt.inputs.stackup_file import SelectedStackup
+from stackopt.model.stackup import Stackup
 from stackopt.search.problem import Evaluation, Problem
 from stackopt.search.space import Geometry
 
