@@ -6,7 +6,7 @@ import numpy as np
 from matplotlib.figure import Figure
 from matplotlib.patches import Rectangle
 
-from stackopt.outputs.facts import PICK_SHORT, cost_items, top_dielectric, unique_picks
+from stackopt.outputs.facts import PICK_SHORT, cost_items, unique_picks
 from stackopt.outputs.plots import new_figure, pick_color, plain, styled
 
 __all__ = ["plot_stackups", "plot_costs", "plot_prepregs", "prepreg_table"]
@@ -129,22 +129,9 @@ def plot_costs(result) -> Figure:
 def prepreg_table(result) -> list[tuple[str, float, int, float, int | None]]:
     """Per top dielectric used by a feasible candidate: (name, Dk, best candidate, its
     margin dB, cheapest candidate meeting the requirements or ``None``), sorted by best
-    margin (descending)."""
-    feas = np.flatnonzero(result.feasible)
-    if not len(feas):
-        return []
-    names = top_dielectric(result)
-    ev = result.evaluation
-    out = []
-    for name in sorted(set(names[feas])):  # a few dozen catalogue options at most
-        rows = feas[names[feas] == name]
-        best = int(rows[np.lexsort((ev.unit_cost[rows], -ev.margin[rows]))[0]])
-        ok = rows[result.meets[rows]]
-        cheap = int(ok[np.lexsort((-ev.margin[ok], ev.unit_cost[ok]))[0]]) if len(ok) else None
-        out.append((str(name), float(ev.geometry.ref_er[best]), best,
-                    float(ev.margin[best]), cheap))
-    out.sort(key=lambda r: (-r[3], r[0]))
-    return out
+    margin (descending); from :meth:`Result.prepreg_pick`."""
+    return [(r["top_dielectric"], r["er"], r["best_index"], r["best_margin_dB"],
+             r["cheapest_meeting_index"]) for r in result.prepreg_pick()]
 
 
 @styled

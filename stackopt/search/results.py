@@ -123,6 +123,33 @@ class Result:
             "best_overall": self._best(self.feasible, "perf"),
         }
 
+    def prepreg_pick(self) -> list[dict]:
+        """For each dielectric used between the top copper and its plane (by a feasible
+        candidate): the best margin reached with it and the cheapest stackup using it that
+        meets every requirement. Sorted by best margin, best first."""
+        feas = np.flatnonzero(self.feasible)
+        if not len(feas):
+            return []
+        names = self.problem.space.slot_names(self.candidates)[:, 0]
+        ev = self.evaluation
+        out = []
+        for name in sorted(set(names[feas])):  # a few dozen catalogue options at most
+            rows = feas[names[feas] == name]
+            best = int(rows[np.lexsort((ev.unit_cost[rows], -ev.margin[rows]))[0]])
+            ok = rows[self.meets[rows]]
+            cheap = (int(ok[np.lexsort((-ev.margin[ok], ev.unit_cost[ok]))[0]])
+                     if len(ok) else None)
+            out.append({"top_dielectric": str(name), "er": _num(ev.geometry.ref_er[best]),
+                        "thickness_m": _num(ev.geometry.ref_height[best]),
+                        "best_margin_dB": _num(ev.margin[best]), "best_id": self.ids[best],
+                        "best_index": best,
+                        "cheapest_meeting_id": None if cheap is None else self.ids[cheap],
+                        "cheapest_meeting_index": cheap,
+                        "cheapest_meeting_unit_cost": (None if cheap is None
+                                                       else _num(ev.unit_cost[cheap]))})
+        out.sort(key=lambda r: (-r["best_margin_dB"], r["top_dielectric"]))
+        return out
+
     def closest(self, k: int = 3) -> list[int]:
         """The ``k`` feasible candidates nearest to meeting the requirements (best margin)."""
         idx = np.flatnonzero(self.feasible)
@@ -252,6 +279,8 @@ class Result:
             "front": [self.record(int(i)) for i in self.front_order],
             "picks": {k: (None if v is None else self.record(v))
                       for k, v in self.picks.items()},
+            "prepreg_pick": [{k: v for k, v in r.items() if not k.endswith("_index")}
+                             for r in self.prepreg_pick()],
             "stats": {k: (int(v) if isinstance(v, int | np.integer) else v)
                       for k, v in self.stats.items()},
         }
