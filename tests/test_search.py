@@ -38,7 +38,7 @@ FILTER = {
 
 def scenario(circuit=FILTER, *, layers=(2, 4), symmetric=True, window=None, mitigations=(),
              req=(("1.8 GHz", "35 dB"), ("2.7 GHz", "45 dB")), drills=("0.2 mm", "0.3 mm"),
-             vias=(1, 2), lines=()):
+             vias=(1, 2), lines=(), search=None):
     space = {"layers": list(layers), "symmetric": symmetric, "drills": list(drills),
              "vias_per_ground": list(vias), "mitigations": list(mitigations),
              "copper": ["1 oz"]}
@@ -48,7 +48,7 @@ def scenario(circuit=FILTER, *, layers=(2, 4), symmetric=True, window=None, miti
         "name": "test", "board": {"width": "50 mm", "height": "40 mm", "quantity": 100},
         "circuit": circuit,
         "requirements": [{"frequency": f, "min_attenuation": a} for f, a in req],
-        "lines": list(lines), "space": space})
+        "lines": list(lines), "space": space, "search": search or {}})
 
 
 def front_points(result):
@@ -78,6 +78,28 @@ def test_exact_equals_brute_force(kw):
     assert front_points(r) == brute
     assert r.space_size == n
     assert r.evaluated < n  # pruning visited less than the whole space
+
+
+def test_exact_equals_brute_force_with_lead_time_as_third_objective():
+    # A non-standard finished thickness that costs nothing but adds days (an edited copy
+    # of the invented demo table): the cheapest tail of a group is then not the fastest,
+    # and the exact search must keep both.
+    feats = TABLE.features.model_copy(update={"non_standard_thickness": TABLE.features
+                                              .non_standard_thickness.model_copy(
+                                                  update={"per_panel": 0.0, "per_lot": 0.0,
+                                                          "days": 3})})
+    table = TABLE.model_copy(update={"features": feats})
+    sc = scenario(SHORT, layers=(4,), req=(("800 MHz", "40 dB"),),
+                  mitigations=("via_in_pad",), search={"third_objective": "lead_time"})
+    r = optimize(sc, table, method="exact")
+    p = Problem(sc, table)
+    c = enumerate_all(p.space)
+    ev = p.evaluate(c)
+    f = p.objectives(ev)[ev.feasible]
+    brute = {tuple(np.round(x, 9)) for x in f[nondominated(f)]}
+    assert front_points(r) == brute
+    assert r.objectives.shape[1] == 3
+    assert len({x[2] for x in brute}) > 1  # lead time really varies along the front
 
 
 def test_front_members_are_nondominated_among_all_evaluated():

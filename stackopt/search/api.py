@@ -86,8 +86,7 @@ def optimize(
                          fix="allow layer counts and drills that the cost table prices")
     work = exact_work(problem)
     if method == "auto":
-        method = "exact" if (work <= EXACT_WORK_LIMIT and sp.third_objective is None
-                             or work <= EXACT_WORK_LIMIT / 10) else "nsga2"
+        method = "exact" if work <= EXACT_WORK_LIMIT else "nsga2"
     stats: dict = {"exact_work_estimate": int(work)}
     if method == "exact":
         plan = exact_candidates(problem)

@@ -92,8 +92,9 @@ def _material_coef(problem: Problem, layers: int) -> np.ndarray:
 
 
 def _thickness_terms(problem: Problem, layers: int, cu: float, drill: float, vip: bool,
-                     t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(unit cost without materials, total violation) as functions of finished thickness."""
+                     t: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(unit cost without materials, total violation, lead time) as functions of finished
+    thickness."""
     n = len(t)
     pb = PriceBatch.broadcast(layers=layers,
                               material_counts=np.zeros((n, problem.space.n_materials),
@@ -109,7 +110,7 @@ def _thickness_terms(problem: Problem, layers: int, cu: float, drill: float, vip
     if win is not None:
         lo, hi = win.bounds
         viol += np.maximum(lo - t, 0) / lo + np.maximum(t - hi, 0) / hi
-    return pr.unit_cost, viol
+    return pr.unit_cost, viol, pr.lead_time_days
 
 
 def exact_work(problem: Problem) -> int:
@@ -130,6 +131,7 @@ def exact_candidates(problem: Problem) -> ExactPlan:
     rules (or, if none does, the least violating one, so it is reported as infeasible)."""
     sp = problem.space
     vip_values = (False, True) if "via_in_pad" in sp.mitigations else (False,)
+    lead_matters = problem.scenario.search.third_objective == "lead_time"
     other_mits = [m for m in sp.mitigations if m != "via_in_pad"]
     parts: list[Candidates] = []
     n_states = n_priced = 0
@@ -149,16 +151,31 @@ def exact_candidates(problem: Problem) -> ExactPlan:
             cu_nm = int(round(cu * 1e9)) * a.n_layers
             tot = head_t[:, None] + st_t[None, :] + cu_nm  # (H, S) nm
             uniq, inv = np.unique(tot, return_inverse=True)
-            base, viol = _thickness_terms(problem, a.n_layers, cu, drill, vip, uniq * 1e-9)
+            base, viol, lead = _thickness_terms(problem, a.n_layers, cu, drill, vip,
+                                                uniq * 1e-9)
             inv = inv.reshape(tot.shape)
             cost = base[inv] + head_c[:, None] + st_c[None, :]
             v = viol[inv]
             key = np.where(v > 0, _BIG * (1 + v), cost)
             best = np.argmin(key, axis=1)  # (H,)
+            rows = np.arange(len(best))
+            if lead_matters and len(np.unique(lead)) > 1:
+                # lead time also depends on thickness (e.g. a non-standard thickness adds
+                # days): keep the cheapest feasible tail for every lead time as well
+                lt = lead[inv]
+                extra_b, extra_r = [], []
+                for value in np.unique(lead):
+                    k2 = np.where(lt == value, key, np.inf)
+                    b2 = np.argmin(k2, axis=1)
+                    ok = (k2[rows, b2] < _BIG) & (b2 != best)
+                    extra_b.append(b2[ok])
+                    extra_r.append(rows[ok])
+                best = np.concatenate([best, *extra_b])
+                rows = np.concatenate([rows, *extra_r])
             n_priced += tot.size
             tail_opt = _backtrack(back, best) if tail_ids else np.zeros((len(best), 0), int)
             genes = np.zeros((len(best), len(tables)), dtype=np.int64)
-            genes[:, head_ids] = head_opt
+            genes[:, head_ids] = head_opt[rows]
             genes[:, tail_ids] = tail_opt
             slot = np.full((len(best), sp.n_slots), -1, dtype=np.int64)
             for k, slots in enumerate(a.genes):
