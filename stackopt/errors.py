@@ -40,8 +40,18 @@ def format_key_path(path: Sequence[str | int] | str | None) -> str:
 
 
 def did_you_mean(word: str, choices: Iterable[str]) -> str:
-    """Return ``" (did you mean 'x'?)"`` for the closest choice, or ``""``."""
-    close = difflib.get_close_matches(str(word), [str(c) for c in choices], n=1, cutoff=0.6)
+    """Return ``" (did you mean 'x'?)"`` for the closest choice, or ``""``.
+
+    A choice that differs only in letter case or by two swapped letters (``kd`` for
+    ``dk``) wins; otherwise the closest by :func:`difflib.get_close_matches`.
+    """
+    w = str(word)
+    opts = [str(c) for c in choices]
+    lw = w.lower()
+    close = [c for c in opts if c.lower() == lw]
+    close = close or [c for c in opts if len(c) == len(w) and sorted(c.lower()) == sorted(lw)
+                      and sum(a != b for a, b in zip(c.lower(), lw, strict=True)) == 2]
+    close = close or difflib.get_close_matches(w, opts, n=1, cutoff=0.6)
     return f" (did you mean '{close[0]}'?)" if close else ""
 
 

@@ -3,6 +3,7 @@ the file, line, key path, the bad value and the fix ("did you mean ...?")."""
 
 from __future__ import annotations
 
+import re
 from collections.abc import Sequence
 from typing import Any, TypeVar
 
@@ -14,6 +15,11 @@ from stackopt.inputs.yamlio import Document
 M = TypeVar("M", bound=BaseModel)
 
 __all__ = ["validate_model"]
+
+#: pydantic wording -> the words of a YAML file
+_PLAIN = ((r"Input should be a valid tuple", "expected a list ([a, b] or '- ' lines)"),
+          (r"Input should be a valid dictionary( or instance of \w+)?",
+           "expected a section of 'key: value' entries"))
 
 
 def _fields_at(model: type[BaseModel], loc: Sequence[str | int]) -> list[str]:
@@ -60,7 +66,9 @@ def validate_model(model: type[M], doc: Document, prefix: Sequence[str | int] = 
     try:
         return model.model_validate(payload)
     except ValidationError as exc:
-        err = exc.errors(include_url=False)[0]
+        errs = exc.errors(include_url=False)
+        # a misspelt required key shows as 'missing' *and* 'unknown': name the typo
+        err = next((e for e in errs if e["type"] == "extra_forbidden"), errs[0])
         loc = list(prefix) + _clean_loc(err["loc"])
         kind = err["type"]
         value = err.get("input")
@@ -80,7 +88,15 @@ def validate_model(model: type[M], doc: Document, prefix: Sequence[str | int] = 
         else:
             msg = err["msg"].removeprefix("Value error, ")
             fix = None
-        shown = repr(value) if not isinstance(value, dict | list) else type(value).__name__
-        if len(shown) > 60:
-            shown = shown[:57] + "..."
-        raise doc.error(f"{msg} (got {shown})", loc, fix=fix) from None
+            for old, new in _PLAIN:  # pydantic's words for YAML's
+                msg = re.sub(old, new, msg)
+        if kind == "literal_error" and isinstance(value, str):
+            choices = re.findall(r"'([^']*)'", str((err.get("ctx") or {}).get("expected", "")))
+            hint = did_you_mean(value, choices)
+        else:
+            hint = ""
+        got = ""
+        if not isinstance(value, dict):  # a whole section: its rule already says what
+            shown = repr(value) if not isinstance(value, list | tuple) else "a list"
+            got = f" (got {shown[:57] + '...' if len(shown) > 60 else shown})"
+        raise doc.error(f"{msg}{got}{hint}", loc, fix=fix) from None

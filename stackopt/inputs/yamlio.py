@@ -51,6 +51,10 @@ class _Loader(yaml.SafeLoader):
     pass
 
 
+#: Tags of plain mappings and lists (anything else, e.g. ``!!python/object``, is refused).
+_PLAIN_TAGS = ("tag:yaml.org,2002:map", "tag:yaml.org,2002:seq")
+
+
 class _TooBig(Exception):
     pass
 
@@ -61,6 +65,11 @@ def _walk(loader: _Loader, node: yaml.Node, path: KeyPath, marks: dict, file: st
     if budget[0] < 0:
         raise _TooBig
     marks.setdefault(path, (node.start_mark.line + 1, node.start_mark.column + 1))
+    if isinstance(node, yaml.MappingNode | yaml.SequenceNode) and node.tag not in _PLAIN_TAGS:
+        raise InputError(f"the YAML tag {node.tag!r} is not allowed", file=file,
+                         key=list(path), line=node.start_mark.line + 1,
+                         column=node.start_mark.column + 1,
+                         fix="remove the '!' tag; write plain lists and 'key: value' entries")
     if isinstance(node, yaml.MappingNode):
         loader.flatten_mapping(node)
         out: dict[Any, Any] = {}
