@@ -68,8 +68,8 @@ class _Bar:
 def run(args: argparse.Namespace) -> int:
     """Run the search and write every output file."""
     import stackopt
-    from stackopt.outputs.files import prepare_out_dir
     from stackopt.outputs.bundle import write_all
+    from stackopt.outputs.files import prepare_out_dir
 
     inp = load_inputs(args.scenario, args.costs)
     out = Path(args.out) if args.out else Path("stackopt-out") / safe_dirname(inp.scenario.name)
@@ -99,7 +99,13 @@ def run(args: argparse.Namespace) -> int:
         rows.append([label, rec["id"], str(rec["layers"]), money(rec["unit_cost"], cur),
                      money(rec["lot_cost"], cur), f"{rec['margin_dB']:+.1f} dB"])
     say(table(rows, ["pick", "id", "layers", "per board", "per lot", "margin"]))
-    if result.picks["cheapest_meeting_requirements"] is None:
+    if not result.feasible.any():
+        say("  No candidate satisfies the fab's and the scenario's constraints. Nearest:")
+        for i in result.closest(3):
+            rec = result.record(i)
+            say(f"    {rec['id']} ({rec['layers']} layers): violates "
+                + "; ".join(rec["violations"]))
+    elif result.picks["cheapest_meeting_requirements"] is None:
         say("  No candidate meets every requirement. Closest:")
         for i in result.closest(3):
             rec = result.record(i)

@@ -69,6 +69,12 @@ def read_price_csv(path: str | Path) -> PriceCsv:
     table's currency; an empty cell is an error (every layer count needs every price).
     """
     p = Path(path)
+    if p.exists() and not p.is_file():
+        raise InputError("the price CSV is not a regular file", file=p,
+                         fix="name a .csv file beside the YAML")
+    if p.is_file() and p.stat().st_size > 20_000_000:
+        raise InputError("the price CSV is larger than 20 MB", file=p,
+                         fix="a price matrix has a row per layer count; check the path")
     try:
         text = p.read_text(encoding="utf-8-sig")
     except FileNotFoundError:

@@ -151,10 +151,16 @@ class Result:
         return out
 
     def closest(self, k: int = 3) -> list[int]:
-        """The ``k`` feasible candidates nearest to meeting the requirements (best margin)."""
+        """The ``k`` candidates nearest to meeting the requirements: the feasible ones with
+        the best margin or, when none is feasible, the least violating ones."""
+        ev = self.evaluation
         idx = np.flatnonzero(self.feasible)
-        order = np.lexsort((self.evaluation.unit_cost[idx], -self.evaluation.margin[idx]))
-        return [int(i) for i in idx[order[:k]]]
+        if len(idx):
+            order = np.lexsort((ev.unit_cost[idx], -ev.margin[idx]))
+            return [int(i) for i in idx[order[:k]]]
+        total = sum((v for v in ev.violations.values()), np.zeros(self.n))
+        order = np.lexsort((ev.unit_cost, -ev.margin, total))
+        return [int(i) for i in order[:k]]
 
     def stackup(self, i: int):
         """The stackup of candidate ``i``."""
