@@ -24,6 +24,19 @@ inductance
   so :math:`L_{tu} = L_{tt}` for them (fully coupled). ``own_vias``: the second, third …
   element on a connection gets a copy of the connection (trace and vias) moved by one,
   two … pitches in +y.
+- ``coplanar``: a ground pour on the top layer around the pads, stitched to the plane.
+  Each element lands on the pour right beside its pad, so its pad-to-via trace becomes
+  the short pad-to-pour bridge (length ``min(trace, pour_gap)``, same width, still
+  :func:`~stackopt.physics.lines.pad_trace_inductance`), every element lands on its own
+  patch of pour (as with ``own_vias``), and the pour reaches the plane through the
+  connection's vias plus :data:`STITCH_VIAS` stitching vias flanking them, one pitch
+  beyond each end of the row (so ``n`` vias become a row of ``n + 2``, all in the partial
+  inductance matrix with their mutual terms). Assumptions: the pour between the bridge and
+  the vias is wide and short, its own inductance is neglected (optimistic when the
+  stitching vias sit more than about one dielectric thickness from the pad); each
+  connection's current returns through its own vias (no current crosses the pour to a
+  neighbouring connection), the via sets of different connections still couple through
+  the mutual term.
 """
 
 from __future__ import annotations
@@ -39,11 +52,19 @@ from stackopt.physics.inductance import check_via_model
 from stackopt.physics.lines import pad_trace_inductance
 from stackopt.physics.parallel import parallel_via_inductance, row_positions, via_mutual_inductance
 
-__all__ = ["GroundBatch", "ground_inductance_matrix", "DEFAULT_PITCH_DRILLS"]
+__all__ = ["GroundBatch", "ground_inductance_matrix", "DEFAULT_PITCH_DRILLS",
+           "DEFAULT_POUR_GAP", "STITCH_VIAS"]
 
 #: Via pitch, in drills, where a ground connection does not give one (common practice,
 #: no source: room for the pads' annular rings and the fab's hole-to-hole spacing).
 DEFAULT_PITCH_DRILLS = 3.0
+#: Pad-to-pour clearance of a coplanar ground pour, m (0.2 mm: a usual coplanar gap on
+#: FR-4 boards, well above the 0.1-0.15 mm minimum spaces of common fabs; common
+#: practice, no source).
+DEFAULT_POUR_GAP = 0.2e-3
+#: Stitching vias a coplanar pour adds per ground connection: one beyond each end of the
+#: connection's via row, at the connection's pitch (common practice, no source).
+STITCH_VIAS = 2
 
 
 @dataclass(frozen=True)
@@ -58,6 +79,10 @@ class GroundBatch:
     via_in_pad : bool, pad-to-via traces removed
     own_vias : bool, every element gets its own via(s) instead of sharing a connection's
     copper : top copper thickness [m], > 0 (for the pad trace)
+    coplanar : bool, a stitched ground pour on the top layer (see the module docstring);
+        default all False
+    pour_gap : pad-to-pour clearance of the coplanar pour [m], > 0; default
+        :data:`DEFAULT_POUR_GAP`
     """
 
     height: np.ndarray
@@ -66,17 +91,24 @@ class GroundBatch:
     via_in_pad: np.ndarray
     own_vias: np.ndarray
     copper: np.ndarray
+    coplanar: np.ndarray | None = None
+    pour_gap: np.ndarray | None = None
 
     def __post_init__(self) -> None:
-        kinds = {"vias": int, "via_in_pad": bool, "own_vias": bool}
-        arrs: dict[str, np.ndarray] = {
-            f.name: np.asarray(getattr(self, f.name), dtype=kinds.get(f.name, float))
-            for f in fields(self)}
+        kinds = {"vias": int, "via_in_pad": bool, "own_vias": bool, "coplanar": bool}
+        n = np.shape(self.height)
+        defaults = {"coplanar": False, "pour_gap": DEFAULT_POUR_GAP}
+        arrs: dict[str, np.ndarray] = {}
+        for f in fields(self):
+            v = getattr(self, f.name)
+            if v is None:
+                v = np.full(n, defaults[f.name])
+            arrs[f.name] = np.asarray(v, dtype=kinds.get(f.name, float))
         shapes = {a.shape for a in arrs.values()}
         if len(shapes) != 1 or len(next(iter(shapes))) != 1:
             raise InputError(f"GroundBatch arrays must be 1-D of one length, got {shapes}",
                              fix="use GroundBatch.broadcast(...) for scalars")
-        for name in ("height", "drill", "copper"):
+        for name in ("height", "drill", "copper", "pour_gap"):
             if not np.all(np.isfinite(arrs[name]) & (arrs[name] > 0)):
                 raise InputError(f"GroundBatch.{name} must be finite and > 0",
                                  fix="give SI metres")
@@ -89,16 +121,23 @@ class GroundBatch:
     @classmethod
     def broadcast(cls, height: ArrayLike, drill: ArrayLike = 0.3e-3, vias: ArrayLike = 1,
                   via_in_pad: ArrayLike = False, own_vias: ArrayLike = False,
-                  copper: ArrayLike = 35e-6) -> GroundBatch:
+                  copper: ArrayLike = 35e-6, coplanar: ArrayLike = False,
+                  pour_gap: ArrayLike = DEFAULT_POUR_GAP) -> GroundBatch:
         """Build a batch from scalars or arrays, broadcast to one length N."""
         arrs = np.broadcast_arrays(*(np.atleast_1d(x) for x in
-                                     (height, drill, vias, via_in_pad, own_vias, copper)))
+                                     (height, drill, vias, via_in_pad, own_vias, copper,
+                                      coplanar, pour_gap)))
         return cls(*(np.array(a) for a in arrs))
 
     @property
     def n(self) -> int:
         """Number of candidates N."""
         return len(self.height)
+
+    @property
+    def own_landing(self) -> np.ndarray:
+        """Every element has its own via set: ``own_vias`` or a coplanar pour (N,)."""
+        return self.own_vias | self.coplanar  # type: ignore[operator]
 
     def take(self, idx: ArrayLike) -> GroundBatch:
         """The candidates at ``idx`` (indices or mask)."""
@@ -124,7 +163,19 @@ def _terminal_vias(c: CompiledCircuit, batch: GroundBatch
         off = c.conn_offsets[cn]
         if off is not None:
             xy[:, t, :len(off)] = off
-    shift = np.where(batch.own_vias[:, None], c.terminal_rank[None, :] * pitch, 0.0)
+    if np.any(batch.coplanar):  # stitching vias one pitch beyond each end of the row
+        cop = np.broadcast_to(np.asarray(batch.coplanar)[:, None], count.shape)
+        k = np.arange(vmax + STITCH_VIAS)[None, None, :]
+        inside = k[..., :vmax] < count[..., None]
+        ext = np.max(np.where(inside, np.abs(xy[..., 0]), 0.0), axis=-1) + pitch
+        xy = np.concatenate([xy, np.zeros(count.shape + (STITCH_VIAS, 2))], axis=-2)
+        lo = cop[..., None] & (k == count[..., None])
+        hi = cop[..., None] & (k == count[..., None] + 1)
+        xy[..., 0] = np.where(lo, -ext[..., None], np.where(hi, ext[..., None], xy[..., 0]))
+        xy[..., 1] = np.where(lo | hi, 0.0, xy[..., 1])
+        count = count + STITCH_VIAS * cop
+        vmax += STITCH_VIAS
+    shift = np.where(batch.own_landing[:, None], c.terminal_rank[None, :] * pitch, 0.0)
     xy = xy + c.conn_xy[conn][None, :, None, :]
     xy[..., 1] += shift[..., None]
     mask = np.arange(vmax)[None, None, :] < count[..., None]
@@ -165,13 +216,16 @@ def ground_inductance_matrix(compiled: CompiledCircuit, batch: GroundBatch,
         sel = count == v
         lvia[sel] = parallel_via_inductance(hb[sel], drill[sel], xy[sel][:, :v, :], model)
     conn = compiled.terminal_conn
-    length = np.where(batch.via_in_pad[:, None], 0.0, compiled.conn_trace_length[conn])
+    trace = compiled.conn_trace_length[conn][None, :]
+    bridge = np.minimum(trace, np.asarray(batch.pour_gap)[:, None])  # pad-to-pour
+    length = np.where(batch.via_in_pad[:, None], 0.0,
+                      np.where(np.asarray(batch.coplanar)[:, None], bridge, trace))
     width = np.nan_to_num(compiled.conn_trace_width[conn], nan=1.0)
     ltrace = np.where(length > 0, pad_trace_inductance(length, width, h, batch.copper[:, None]),
                       0.0)
     self_l = lvia + ltrace
     same = conn[:, None] == conn[None, :]
-    shared = same[None] & ~batch.own_vias[:, None, None]
+    shared = same[None] & ~batch.own_landing[:, None, None]
     eye = np.eye(g, dtype=bool)
     out = np.where(shared, self_l[:, :, None], 0.0)
     if mutual and g > 1:

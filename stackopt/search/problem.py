@@ -14,6 +14,7 @@ from functools import cached_property
 import numpy as np
 
 from stackopt.circuit import GroundBatch, compile_circuit, ground_inductance_matrix, solve
+from stackopt.circuit.grounds import DEFAULT_POUR_GAP
 from stackopt.circuit.metrics import attenuation_db
 from stackopt.cost import PriceBatch, price
 from stackopt.model.costtable import BoardOrder, CostTable
@@ -137,14 +138,24 @@ class Problem:
         return np.array([r.min_attenuation for r in self.scenario.requirements], dtype=float)
 
     # ---- electrical work, once per phenotype -----------------------------------------
+    @cached_property
+    def pour_gap(self) -> float:
+        """Gap of the coplanar ground pour, m: the first line's ``gap`` if one gives it,
+        else :data:`~stackopt.circuit.grounds.DEFAULT_POUR_GAP` (the same gap sizes the
+        CPWG lines in :meth:`line_widths` and the pad-to-pour bridges)."""
+        gaps = [ln.gap for ln in self.scenario.lines if ln.gap is not None]
+        return float(gaps[0]) if gaps else DEFAULT_POUR_GAP
+
     def ground_batch(self, g: Geometry) -> GroundBatch:
-        """The circuit's view of a batch: ground-via height, drill, vias and switches."""
+        """The circuit's view of a batch: ground-via height, drill, vias and switches
+        (``coplanar``: a stitched ground pour, see :mod:`stackopt.circuit.grounds`)."""
         n = len(g.depth)
         off = np.zeros(n, dtype=bool)
         return GroundBatch(height=g.depth, drill=g.drill, vias=g.vias,
                            via_in_pad=g.flags.get("via_in_pad", off),
-                           own_vias=g.flags.get("own_vias", off) | g.flags.get("coplanar", off),
-                           copper=g.copper)
+                           own_vias=g.flags.get("own_vias", off), copper=g.copper,
+                           coplanar=g.flags.get("coplanar", off),
+                           pour_gap=np.full(n, self.pour_gap))
 
     def phenotype(self, g: Geometry) -> np.ndarray:
         """The numbers the electrical response depends on, one row per candidate."""
@@ -161,9 +172,7 @@ class Problem:
         ph = self.phenotype(g)
         _, first, inv = np.unique(ph, axis=0, return_index=True, return_inverse=True)
         inv = inv.reshape(-1)
-        gb = self.ground_batch(g)
-        sub = GroundBatch(**{k: np.asarray(getattr(gb, k))[first] for k in
-                             ("height", "drill", "vias", "via_in_pad", "own_vias", "copper")})
+        sub = self.ground_batch(g).take(first)
         s = solve(self.compiled, self.freqs, sub, model)
         lmat = ground_inductance_matrix(self.compiled, sub, model)
         lsum = np.trace(lmat, axis1=-2, axis2=-1) if lmat.shape[-1] else np.zeros(len(first))
@@ -202,7 +211,7 @@ class Problem:
         out = np.full((n, len(lines)), np.nan)
         cop = g.flags.get("coplanar", np.zeros(n, dtype=bool))
         for j, ln in enumerate(lines):
-            gap = ln.gap if ln.gap is not None else 0.2e-3
+            gap = ln.gap if ln.gap is not None else self.pour_gap
             use_cpw = cop | (ln.type == "cpwg")
             w_ms, ok_ms = synthesize_width(ln.impedance, g.ref_height, g.ref_er, g.copper,
                                            kind="microstrip", w_min=WIDTH_RANGE[0],

@@ -1,0 +1,378 @@
+"""The mitigation ladder: how far a two-layer board gets, one change at a time, and at what
+cost — set against the cheapest four-layer board that meets the requirements.
+
+Definitions (the choices are ours; each is stated in the report and in ``docs/circuit.md``):
+
+- **Plain board**: among the feasible two-layer combinations, the one with no mitigation
+  switch and the fewest vias per ground connection; the cheapest of those, then the
+  smallest drill, then the finished thickness nearest the window's nominal (its
+  ``nominal``, else the middle of ``min``/``max``, else 1.6 mm). Where no plain board is
+  feasible, the feasible two-layer board with the fewest changes from plain.
+- **Single changes** from a board: one more via per ground connection (the next larger
+  count of the space), the next larger drill, any thinner core whose finished board stays
+  in the thickness window, and switching on one mitigation (``via_in_pad``, ``own_vias``,
+  ``coplanar``). All neighbours of a step are evaluated in one batch
+  (:meth:`Problem.evaluate`).
+- **A step** takes the feasible neighbour that raises the margin (worst requirement) and
+  does not lower the cost: a *free* one first (Δcost = 0, the largest ΔdB), else the one
+  with the most dB per unit cost. Cost and margin therefore never fall along the ladder.
+  A cheaper *and* better neighbour would break the cost order; it is left off the ladder
+  (it shows in the Pareto set). The margin of a filter is not monotone in the ground
+  inductance (a shunt capacitor and its ground inductance make a notch that moves with
+  it), so a greedy walk can stall; where a costlier two-layer combination with more margin
+  exists, one last *combination* step jumps to the best of them, so that the ladder ends
+  at the best two-layer board reachable without cost or margin falling.
+- **Pareto set**: the non-dominated (unit cost, margin) feasible two-layer combinations;
+  every combination is evaluated when there are at most :data:`ENUMERATE_LIMIT`,
+  otherwise the search's own two-layer candidates are used.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+import weakref
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from stackopt.search.front import nondominated
+from stackopt.search.problem import Evaluation, Problem
+from stackopt.search.space import Candidates, Space
+
+__all__ = ["Ladder", "mitigation_ladder", "build_ladder", "climb", "plain_board",
+           "two_layer_combinations", "ENUMERATE_LIMIT", "MITIGATION_WORDS"]
+
+#: Two-layer combinations evaluated exhaustively up to this many.
+ENUMERATE_LIMIT = 200_000
+#: Mitigation switches in words.
+MITIGATION_WORDS = {"via_in_pad": "via-in-pad (filled and capped)",
+                    "own_vias": "own via for every element",
+                    "coplanar": "coplanar ground pour with stitching vias"}
+_EPS_DB = 1e-6
+_NOMINAL = 1.6e-3  # the usual two-layer thickness (common practice, no source)
+_CACHE: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
+
+
+def _empty(space: Space) -> Candidates:
+    z = np.zeros(0, dtype=np.int64)
+    return Candidates(z, np.zeros((0, space.n_slots), np.int64), z, z, z,
+                      np.zeros((0, len(space.mitigations)), bool))
+
+
+def two_layer_combinations(space: Space) -> Candidates:
+    """Every two-layer candidate of ``space`` (empty if it has none)."""
+    parts = []
+    for ai, a in enumerate(space.arrangements):
+        if a.n_layers != 2:
+            continue
+        ranges = [range(len(space.options["core"])), range(len(space.copper)),
+                  range(len(space.drills)), range(len(space.vias))]
+        ranges += [(0, 1)] * len(space.mitigations)
+        rows = np.array(list(itertools.product(*ranges)), dtype=np.int64).reshape(
+            -1, len(ranges))
+        slot = np.full((len(rows), space.n_slots), -1, dtype=np.int64)
+        slot[:, 0] = rows[:, 0]
+        parts.append(Candidates(arr=np.full(len(rows), ai), slot=slot, copper=rows[:, 1],
+                                drill=rows[:, 2], vias=rows[:, 3],
+                                mit=rows[:, 4:].astype(bool)))
+    return Candidates.concat(parts) if parts else _empty(space)
+
+
+def _nominal(problem: Problem) -> float:
+    w = problem.scenario.space.thickness
+    if w is None:
+        return _NOMINAL
+    return w.nominal if w.nominal is not None else 0.5 * sum(w.bounds)
+
+
+def _changes(space: Space, c: Candidates) -> np.ndarray:
+    """How far each board is from plain: mitigations (x100) plus rank of its via count."""
+    rank = np.argsort(np.argsort(np.asarray(space.vias)))
+    return c.mit.sum(axis=1) * 100 + rank[c.vias]
+
+
+def plain_board(problem: Problem, pool: Candidates, ev: Evaluation) -> int | None:
+    """Index in ``pool`` of the plain two-layer board (module docstring); ``None`` if the
+    pool is empty."""
+    if not len(pool):
+        return None
+    g = ev.geometry
+    near = np.abs(g.thickness - _nominal(problem))
+    order = np.lexsort((np.arange(len(pool)), near, g.drill, ev.unit_cost,
+                        _changes(problem.space, pool), ~ev.feasible))
+    return int(order[0])
+
+
+def _neighbours(problem: Problem, c: Candidates) -> tuple[Candidates, list[str]]:
+    """Every single change from the one board ``c`` (see the module docstring)."""
+    sp = problem.space
+    m = c.matrix()[0]
+    s = sp.n_slots
+    cu_col, dr_col, v_col, mit_col = 1 + s, 2 + s, 3 + s, 4 + s
+    rows, kinds = [], []
+
+    def add(col: int, value: int, kind: str) -> None:
+        r = m.copy()
+        r[col] = value
+        rows.append(r)
+        kinds.append(kind)
+
+    for values, col, kind in ((sp.vias, v_col, "vias"), (sp.drills, dr_col, "drill")):
+        vals = np.asarray(values, dtype=float)
+        larger = np.flatnonzero(vals > vals[m[col]])
+        if len(larger):
+            add(col, int(larger[np.argmin(vals[larger])]), kind)
+    core = sp.options["core"]
+    cu = sp.copper[int(m[cu_col])]
+    win = problem.scenario.space.thickness
+    lo, hi = win.bounds if win is not None else (0.0, math.inf)
+    for j in np.flatnonzero(core.thickness < core.thickness[m[1]]):
+        if lo <= core.thickness[j] + 2 * cu <= hi:
+            add(1, int(j), "thinner")
+    for k, name in enumerate(sp.mitigations):
+        if not m[mit_col + k]:
+            add(mit_col + k, 1, name)
+    if not rows:
+        return _empty(sp), []
+    return Candidates.from_matrix(np.array(rows), s), kinds
+
+
+def _pick(cost0: float, margin0: float, ev: Evaluation) -> int | None:
+    """The step to take among evaluated neighbours, or ``None`` (module docstring)."""
+    dc = ev.unit_cost - cost0
+    dm = ev.margin - margin0
+    tol = 1e-9 * max(1.0, abs(cost0))
+    ok = ev.feasible & (dc >= -tol) & (dm > _EPS_DB)
+    if not ok.any():
+        return None
+    free = ok & (dc <= tol)
+    if free.any():
+        return int(np.argmax(np.where(free, dm, -np.inf)))
+    return int(np.argmax(np.where(ok, dm / np.where(ok, dc, 1.0), -np.inf)))
+
+
+def climb(problem: Problem, start: Candidates, max_steps: int = 64
+          ) -> tuple[Candidates, list[str]]:
+    """The greedy single-change ladder from the one board ``start``.
+
+    Returns the boards of every step (start first) and the kind of change of each
+    (``"start"``, ``"vias"``, ``"drill"``, ``"thinner"`` or a mitigation name).
+    """
+    path, kinds = [start], ["start"]
+    ev0 = problem.evaluate(start)
+    cost, margin = float(ev0.unit_cost[0]), float(ev0.margin[0])
+    for _ in range(max_steps):
+        nb, nk = _neighbours(problem, path[-1])
+        if not len(nb):
+            break
+        ev = problem.evaluate(nb)  # every neighbour of this step in one batch
+        k = _pick(cost, margin, ev)
+        if k is None:
+            break
+        path.append(nb.take(np.array([k])))
+        kinds.append(nk[k])
+        cost, margin = float(ev.unit_cost[k]), float(ev.margin[k])
+    return Candidates.concat(path), kinds
+
+
+def _words(space: Space, a: np.ndarray | None, b: np.ndarray) -> str:
+    """What changes from board row ``a`` to ``b`` (matrix rows), in words."""
+    s = space.n_slots
+    core = space.options["core"]
+    t = core.thickness[b[1]]
+    cu = space.copper[int(b[1 + s])]
+    if a is None:
+        mits = [MITIGATION_WORDS[m] for k, m in enumerate(space.mitigations) if b[4 + s + k]]
+        plain = not mits and space.vias[int(b[3 + s])] == min(space.vias)
+        return (("plain two-layer board" if plain else
+                 "simplest feasible two-layer board (no plain one is feasible)")
+                + f": {t * 1e3:.3g} mm core ({(t + 2 * cu) * 1e3:.3g} mm "
+                f"finished), {space.vias[int(b[3 + s])]} via(s) per ground connection, "
+                f"drill {space.drills[int(b[2 + s])] * 1e3:.3g} mm"
+                + (", " + ", ".join(mits) if mits else ""))
+    out = []
+    if a[1] != b[1]:
+        out.append(f"{'thinner' if t < core.thickness[a[1]] else 'thicker'} core "
+                   f"{t * 1e3:.3g} mm ({(t + 2 * cu) * 1e3:.3g} mm finished)")
+    if a[1 + s] != b[1 + s]:
+        out.append(f"copper {cu * 1e6:.0f} um")
+    if a[2 + s] != b[2 + s]:
+        out.append(f"drill {space.drills[int(b[2 + s])] * 1e3:.3g} mm")
+    if a[3 + s] != b[3 + s]:
+        out.append(f"{space.vias[int(b[3 + s])]} vias per ground connection")
+    for k, m in enumerate(space.mitigations):
+        if a[4 + s + k] != b[4 + s + k]:
+            out.append(MITIGATION_WORDS[m] if b[4 + s + k] else f"no {MITIGATION_WORDS[m]}")
+    return ", ".join(out) or "no change"
+
+
+@dataclass(frozen=True, eq=False)
+class Ladder:
+    """The mitigation ladder of one search (see the module docstring)."""
+
+    problem: Problem
+    steps: Candidates  # K boards, the plain board first
+    evaluation: Evaluation  # of ``steps``
+    kinds: tuple[str, ...]
+    changes: tuple[str, ...]  # what each step changes, in words
+    pareto: Candidates  # Pareto set of the two-layer combinations, by increasing cost
+    pareto_evaluation: Evaluation
+    combinations: int  # two-layer combinations considered for the Pareto set
+    exhaustive: bool  # every two-layer combination was evaluated
+    four_layer: Candidates | None  # the cheapest four-layer board meeting the requirements
+    four_layer_evaluation: Evaluation | None
+    four_layer_note: str
+
+    @property
+    def first_meeting(self) -> int | None:
+        """First step whose board meets every requirement (None: two layers never do)."""
+        ok = np.flatnonzero(self.evaluation.feasible & (self.evaluation.margin >= 0))
+        return int(ok[0]) if len(ok) else None
+
+    def _columns(self, c: Candidates, ev: Evaluation) -> dict[str, object]:
+        sp, g = self.problem.space, ev.geometry
+        cols: dict[str, object] = {
+            "core": [sp.options["core"].names[int(j)] for j in c.slot[:, 0]],
+            "thickness_m": g.thickness, "drill_m": g.drill, "vias_per_ground": g.vias,
+            "mitigations": [";".join(m for k, m in enumerate(sp.mitigations) if c.mit[i, k])
+                            for i in range(len(c))],
+            "unit_cost": ev.unit_cost, "lot_cost": ev.lot_cost, "margin_dB": ev.margin}
+        for k, r in enumerate(self.problem.scenario.requirements):
+            cols[f"attenuation_dB_{r.key}Hz"] = ev.attenuation[:, k]
+        cols.update({"ground_inductance_H": ev.inductance, "feasible": ev.feasible,
+                     "meets_requirements": ev.feasible & (ev.margin >= 0)})
+        return cols
+
+    @property
+    def table(self) -> pd.DataFrame:
+        """One row per step: the change, Δcost per board, ΔdB at every requirement and of
+        the margin, dB per unit cost (empty for a free step), and the board."""
+        ev = self.evaluation
+        dc = np.r_[0.0, np.diff(ev.unit_cost)]
+        dm = np.r_[0.0, np.diff(ev.margin)]
+        cols: dict[str, object] = {"step": np.arange(len(self.steps)), "kind": self.kinds,
+                                   "change": self.changes, "d_cost": dc,
+                                   "total_d_cost": ev.unit_cost - ev.unit_cost[0],
+                                   "d_margin_dB": dm}
+        for k, r in enumerate(self.problem.scenario.requirements):
+            cols[f"d_attenuation_dB_{r.key}Hz"] = np.r_[0.0, np.diff(ev.attenuation[:, k])]
+        tol = 1e-9 * max(1.0, float(np.max(np.abs(ev.unit_cost))))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            cols["dB_per_cost"] = np.where(dc > tol, dm / dc, np.nan)
+        cols.update(self._columns(self.steps, ev))
+        return pd.DataFrame(cols)
+
+    @property
+    def pareto_table(self) -> pd.DataFrame:
+        """The Pareto set of two-layer combinations, by increasing unit cost."""
+        return pd.DataFrame(self._columns(self.pareto, self.pareto_evaluation))
+
+    def frame(self) -> pd.DataFrame:
+        """Ladder, Pareto set and the four-layer board in one table (``set`` column)."""
+        parts = [self.table.assign(set="ladder"), self.pareto_table.assign(set="pareto")]
+        if self.four_layer is not None and self.four_layer_evaluation is not None:
+            parts.append(pd.DataFrame(self._columns(
+                self.four_layer, self.four_layer_evaluation)).assign(set="four_layer"))
+        df = pd.concat(parts, ignore_index=True)
+        return df[["set", *[c for c in df.columns if c != "set"]]]
+
+    def to_summary(self) -> dict:
+        """JSON-ready summary (``summary.json``'s ``mitigation_ladder``)."""
+        def rec(row: pd.Series) -> dict:
+            return {k: (v.item() if hasattr(v, "item") else v) for k, v in row.items()}
+        t = self.table
+        four = None
+        if self.four_layer_evaluation is not None:
+            four = rec(pd.DataFrame(self._columns(self.four_layer, self.four_layer_evaluation)
+                                    ).iloc[0])
+        return {"steps": [rec(r) for _, r in t.iterrows()],
+                "first_meeting_step": self.first_meeting,
+                "pareto": [rec(r) for _, r in self.pareto_table.iterrows()],
+                "combinations": self.combinations, "exhaustive": self.exhaustive,
+                "four_layer": four, "four_layer_note": self.four_layer_note}
+
+
+def _pareto(problem: Problem, pool: Candidates, ev: Evaluation) -> np.ndarray:
+    """Indices of the Pareto set (cost, margin) of the feasible pool, by cost; of boards
+    with equal objectives only the one with the fewest changes from plain."""
+    idx = np.flatnonzero(ev.feasible)
+    f = np.column_stack([ev.unit_cost[idx], -ev.margin[idx]])
+    nd = idx[nondominated(f)]
+    if not len(nd):
+        return nd
+    obj = np.round(np.column_stack([ev.unit_cost[nd], -ev.margin[nd]]), 9)
+    order = np.lexsort((nd, _changes(problem.space, pool.take(nd)), obj[:, 1], obj[:, 0]))
+    nd, obj = nd[order], obj[order]
+    return nd[np.r_[True, np.any(obj[1:] != obj[:-1], axis=1)]]
+
+
+def _four_layer(result) -> tuple[int | None, str]:
+    layers = result.evaluation.geometry.layers
+    if not np.any(result.problem.space.layer_counts == 4):
+        return None, "The scenario's design space has no four-layer boards to compare with."
+    idx = np.flatnonzero(result.meets & (layers == 4))
+    if not len(idx):
+        return None, "No four-layer board evaluated meets every requirement."
+    ev = result.evaluation
+    i = int(idx[np.lexsort((idx, -ev.margin[idx], ev.unit_cost[idx]))[0]])
+    return i, "The cheapest four-layer board that meets every requirement."
+
+
+def build_ladder(problem: Problem, pool: Candidates | None = None, *, four=None,
+                 four_note: str = "No four-layer board to compare with.") -> Ladder | None:
+    """The ladder of ``problem`` (``None`` without two-layer combinations).
+
+    ``pool``: the two-layer boards for the start and the Pareto set (default: every
+    combination, see :func:`two_layer_combinations`); ``four``: a one-row
+    :class:`Candidates` of the four-layer board to set the ladder against.
+    """
+    sp = problem.space
+    exhaustive = pool is None
+    if pool is None:
+        pool = two_layer_combinations(sp)
+    if not len(pool) or not len(sp.options["core"]):
+        return None
+    ev = problem.evaluate(pool)
+    i0 = plain_board(problem, pool, ev)
+    assert i0 is not None
+    steps, kinds = climb(problem, pool.take(np.array([i0])))
+    ev_s = problem.evaluate(steps)
+    end_cost, end_margin = float(ev_s.unit_cost[-1]), float(ev_s.margin[-1])
+    tol = 1e-9 * max(1.0, abs(end_cost))
+    jump = np.flatnonzero(ev.feasible & (ev.unit_cost >= end_cost - tol)
+                          & (ev.margin > end_margin + _EPS_DB) & bool(ev_s.feasible[-1]))
+    if len(jump):
+        j = int(jump[np.lexsort((jump, _changes(sp, pool.take(jump)), ev.unit_cost[jump],
+                                 -ev.margin[jump]))[0]])
+        steps = Candidates.concat([steps, pool.take(np.array([j]))])
+        kinds = [*kinds, "combination"]
+        ev_s = problem.evaluate(steps)
+    m = steps.matrix()
+    changes = tuple(_words(sp, None if k == 0 else m[k - 1], m[k]) for k in range(len(m)))
+    par = pool.take(_pareto(problem, pool, ev))
+    four_ev = problem.evaluate(four) if four is not None else None
+    return Ladder(problem, steps, ev_s, tuple(kinds), changes, par, problem.evaluate(par),
+                  len(pool), exhaustive, four, four_ev, four_note)
+
+
+def mitigation_ladder(result) -> Ladder | None:
+    """The mitigation ladder of a search :class:`~stackopt.search.results.Result`, or
+    ``None`` when its design space has no two-layer boards. Computed once per result."""
+    if result in _CACHE:
+        return _CACHE[result]
+    pb = result.problem
+    two = [a for a in pb.space.arrangements if a.n_layers == 2]
+    lad = None
+    if two:
+        size = sum(pb.space.arrangement_size(a) for a in two)
+        pool = None
+        if size > ENUMERATE_LIMIT:
+            pool = result.candidates.take(np.flatnonzero(
+                result.evaluation.geometry.layers == 2))
+        i4, note = _four_layer(result)
+        four = result.candidates.take(np.array([i4])) if i4 is not None else None
+        lad = build_ladder(pb, pool, four=four, four_note=note)
+    _CACHE[result] = lad
+    return lad
