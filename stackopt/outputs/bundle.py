@@ -14,7 +14,13 @@ import tempfile
 from pathlib import Path
 
 from stackopt.errors import OutputError
-from stackopt.outputs.exports import candidates_csv, front_csv, selected_yaml, summary_json
+from stackopt.outputs.exports import (
+    candidates_csv,
+    front_csv,
+    mitigations_csv,
+    selected_yaml,
+    summary_json,
+)
 from stackopt.outputs.facts import selected_index, sweep_freqs
 from stackopt.outputs.files import fsync_dir, inside, prepare_out_dir
 
@@ -23,7 +29,8 @@ __all__ = ["FILES", "render_all", "write_all"]
 #: The fixed file names, in writing order.
 FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.md",
          "pareto.png", "pareto.svg", "response.png", "stackups.png", "costs.png",
-         "prepregs.png", "selected.yaml", "selected.s2p")
+         "prepregs.png", "mitigations.png", "mitigations.csv", "selected.yaml",
+         "selected.s2p")
 
 
 def _touchstone(result, i: int) -> str:
@@ -40,13 +47,20 @@ def _touchstone(result, i: int) -> str:
 
 
 def render_all(result, extra_summary: dict | None = None) -> dict[str, bytes]:
-    """Every output file's bytes, by file name (nothing is written)."""
+    """Every output file's bytes, by file name (nothing is written). The mitigation
+    files and summary key come only from a design space with two-layer boards
+    (``mitigation_ladder`` is ``null`` otherwise)."""
     from stackopt.outputs.plots import figure_bytes, plot_front, plot_response
+    from stackopt.outputs.plots_ladder import plot_mitigations
     from stackopt.outputs.plots_stackup import plot_costs, plot_prepregs, plot_stackups
     from stackopt.outputs.report import IMAGE_FILES, report_html, report_markdown
+    from stackopt.search.ladder import mitigation_ladder
 
+    ladder = mitigation_ladder(result)
+    extra = {**(extra_summary or {}),
+             "mitigation_ladder": ladder.to_summary() if ladder is not None else None}
     out: dict[str, bytes] = {
-        "summary.json": summary_json(result, extra_summary).encode("utf-8"),
+        "summary.json": summary_json(result, extra).encode("utf-8"),
         "candidates.csv": candidates_csv(result).encode("utf-8"),
         "front.csv": front_csv(result).encode("utf-8"),
     }
@@ -56,10 +70,14 @@ def render_all(result, extra_summary: dict | None = None) -> dict[str, bytes]:
     for key, fn in (("response", plot_response), ("stackups", plot_stackups),
                     ("costs", plot_costs), ("prepregs", plot_prepregs)):
         images[key] = figure_bytes(fn(result), "png")
+    if ladder is not None:
+        images["mitigations"] = figure_bytes(plot_mitigations(ladder, result), "png")
+        out["mitigations.csv"] = mitigations_csv(ladder).encode("utf-8")
     out["report.html"] = report_html(result, images).encode("utf-8")
     out["report.md"] = report_markdown(result, IMAGE_FILES).encode("utf-8")
     for key, name in IMAGE_FILES.items():
-        out[name] = images[key]
+        if key in images:
+            out[name] = images[key]
     out["selected.yaml"] = selected_yaml(result).encode("utf-8")
     i = selected_index(result)
     if i is not None:

@@ -18,7 +18,8 @@ import yaml
 from stackopt.outputs.facts import selected_index
 from stackopt.outputs.report_sections import OZ
 
-__all__ = ["candidates_csv", "front_csv", "selected_yaml", "selected_document",
+__all__ = ["candidates_csv", "front_csv", "mitigations_csv", "selected_yaml",
+           "selected_document",
            "summary_json", "csv_safe", "FORMAT", "json_clean"]
 
 #: Format tag of :func:`selected_yaml` files (read back by
@@ -51,6 +52,12 @@ def candidates_csv(result) -> str:
 def front_csv(result) -> str:
     """The front, by increasing unit cost."""
     return _csv(result.table.iloc[np.asarray(result.front_order, dtype=np.int64)])
+
+
+def mitigations_csv(ladder) -> str:
+    """The mitigation ladder, the two-layer Pareto set and the four-layer board
+    (:meth:`stackopt.search.ladder.Ladder.frame`, ``set`` column tells which)."""
+    return _csv(ladder.frame())
 
 
 def _q(x: float, unit: str, scale: float, digits: int = 6) -> str:

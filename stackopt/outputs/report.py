@@ -20,6 +20,7 @@ from stackopt.outputs.facts import (
     top_dielectric,
     unique_picks,
 )
+from stackopt.outputs.report_ladder import ladder_section
 from stackopt.outputs.report_render import render_html, render_markdown
 from stackopt.outputs.report_sections import (
     assumptions,
@@ -34,7 +35,8 @@ __all__ = ["report_document", "report_markdown", "report_html", "IMAGE_FILES"]
 
 #: Image keys and the file names :func:`stackopt.outputs.bundle.write_all` gives them.
 IMAGE_FILES = {"pareto": "pareto.png", "response": "response.png",
-               "stackups": "stackups.png", "costs": "costs.png", "prepregs": "prepregs.png"}
+               "stackups": "stackups.png", "costs": "costs.png", "prepregs": "prepregs.png",
+               "mitigations": "mitigations.png"}
 _WORDS = {2: "two", 4: "four", 6: "six", 8: "eight", 10: "ten", 12: "twelve"}
 
 
@@ -176,6 +178,9 @@ def report_document(result) -> list[tuple]:
     blocks.append(("img", "pareto", "Cost against margin of every candidate evaluated; the "
                    "Pareto front is bold, the picks are ringed."))
     blocks.append(("note", method_line(result)))
+    from stackopt.search.ladder import mitigation_ladder
+
+    blocks += ladder_section(result, mitigation_ladder(result))
     blocks += [("h2", "Risks"), ("ul", risks(result))]
     blocks += stackup_table(result)
     blocks += [("h2", "The picks"), picks_table(result),

@@ -1,0 +1,60 @@
+"""The mitigation-ladder chart: cumulative cost per board against margin, step by step,
+with the Pareto set of two-layer combinations and the cheapest four-layer board meeting
+the requirements."""
+
+from __future__ import annotations
+
+import numpy as np
+from matplotlib.figure import Figure
+
+from stackopt.outputs.plots import LAYER_MARKERS, layer_color, new_figure, styled
+
+__all__ = ["plot_mitigations"]
+
+
+@styled
+def plot_mitigations(ladder, result) -> Figure:
+    """Cost per board against margin: the ladder's boards joined in order and numbered,
+    the Pareto set of two-layer combinations, the four-layer board, and the 0 dB line."""
+    fig = new_figure(8.0, 5.0)
+    ax = fig.add_subplot()
+    if ladder is None:
+        ax.text(0.5, 0.5, "no two-layer boards in the design space", ha="center",
+                va="center", transform=ax.transAxes)
+        return fig
+    cur = result.problem.table.currency
+    ev, pev = ladder.evaluation, ladder.pareto_evaluation
+    x, y = ev.unit_cost, ev.margin
+    ys = [y, pev.margin]
+    if len(pev.unit_cost):
+        ax.step(pev.unit_cost, pev.margin, where="post", color="0.55", lw=0.8, zorder=2)
+        ax.scatter(pev.unit_cost, pev.margin, s=22, marker="o", facecolor="white",
+                   edgecolor="0.45", linewidths=0.8, zorder=3,
+                   label=f"two-layer Pareto set ({len(pev.unit_cost)})")
+    ax.plot(x, y, color=layer_color(2), lw=1.8, zorder=4)
+    ax.scatter(x, y, s=46, marker=LAYER_MARKERS[2], facecolor=layer_color(2),
+               edgecolor="black", linewidths=0.6, zorder=5, label="mitigation ladder")
+    for k in range(len(x)):
+        ax.annotate(str(k), (x[k], y[k]), xytext=(6, 6 if k % 2 == 0 else -12),
+                    textcoords="offset points", fontsize=8, zorder=6)
+    fev = ladder.four_layer_evaluation
+    if fev is not None:
+        ax.scatter(fev.unit_cost, fev.margin, s=70, marker=LAYER_MARKERS[4],
+                   facecolor=layer_color(4), edgecolor="black", linewidths=0.6, zorder=5,
+                   label=f"cheapest four-layer meeting the requirements, "
+                         f"{float(fev.unit_cost[0]):,.2f} {cur}")
+        ys.append(fev.margin)
+    if result.problem.scenario.requirements:
+        ax.axhline(0.0, color="#d62728", lw=1.2, ls="--", zorder=3,
+                   label="requirement met above this line")
+    allv = np.concatenate(ys)
+    allv = allv[np.isfinite(allv) & (np.abs(allv) < 900)]
+    if len(allv):
+        lo, hi = float(allv.min()), float(allv.max())
+        pad = 0.1 * max(hi - lo, 1.0)
+        ax.set_ylim(min(lo, 0.0) - pad, max(hi, 0.0) + pad)
+    ax.set_xlabel(f"Cost per board ({cur}, lot of {result.problem.scenario.board.quantity:,})")
+    ax.set_ylabel("Margin over the requirements (dB, worst requirement)")
+    ax.set_title("What a two-layer board reaches, one change at a time (numbers: steps)")
+    ax.legend(loc="best")
+    return fig

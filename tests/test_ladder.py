@@ -1,0 +1,129 @@
+"""The mitigation ladder: monotone, free steps first, ends at the best reachable two-layer
+board, and shows in the outputs (mitigations.csv, mitigations.png, the report, summary.json).
+
+The scenarios and the cost table are invented demo data (used here as fixtures)."""
+
+from __future__ import annotations
+
+import io
+import json
+
+import numpy as np
+import pandas as pd
+import pytest
+from outputs_support import DEMO, ROOT, run
+
+from stackopt.inputs.costtable import load_cost_table
+from stackopt.model.scenario import Scenario
+from stackopt.outputs.bundle import render_all, write_all
+from stackopt.search.api import optimize
+from stackopt.search.ladder import mitigation_ladder, two_layer_combinations
+
+TWO = ROOT / "scenarios" / "two_layer_only.yaml"
+EMI = ROOT / "scenarios" / "consumer_emi.yaml"
+TABLE = load_cost_table(ROOT / "cost_tables" / "quickturn.yaml")
+
+
+def _decoupling(layers=(2,), mitigations=("via_in_pad",)):
+    """Hand-built: one 100 nF shunt across a through line, its ground through g1 (a
+    0.5 mm pad trace), 20 dB wanted at 1 GHz: far above the series resonance, so less
+    ground inductance always means more attenuation (Goldfarb & Pucel 1991; Hammerstad &
+    Jensen 1980 for the trace)."""
+    circuit = {"z0": "50 ohm", "elements": [
+        {"name": "R0", "type": "R", "value": "0.001 ohm", "between": ["in", "out"]},
+        {"name": "C1", "type": "C", "value": "100 nF", "between": ["in", "gnd"],
+         "ground": "g1"}],
+        "grounds": [{"name": "g1", "at": ["0 mm", "0 mm"], "trace_length": "0.5 mm",
+                     "trace_width": "0.3 mm"}]}
+    return Scenario.model_validate({
+        "name": "decoupling", "board": {"width": "50 mm", "height": "40 mm",
+                                        "quantity": 100},
+        "circuit": circuit,
+        "requirements": [{"frequency": "1 GHz", "min_attenuation": "20 dB"}],
+        "space": {"layers": list(layers), "drills": ["0.3 mm"], "vias_per_ground": [1, 2],
+                  "mitigations": list(mitigations), "copper": ["1 oz"],
+                  "thickness": {"nominal": "1.6 mm", "tolerance": 0.1}}})
+
+
+@pytest.fixture(scope="module")
+def demos():
+    return {"two": optimize(TWO), "emi": optimize(EMI), "harmonic": run(DEMO)}
+
+
+@pytest.mark.parametrize("name", ["two", "emi", "harmonic"])
+def test_ladder_is_monotone_and_ends_at_the_best_reachable(demos, name):
+    r = demos[name]
+    lad = mitigation_ladder(r)
+    ev = lad.evaluation
+    tol = 1e-9 * max(1.0, float(ev.unit_cost.max()))
+    assert np.all(np.diff(ev.unit_cost) >= -tol)  # cost never falls
+    assert np.all(np.diff(ev.margin) > 0)  # margin never falls (each step gains)
+    assert ev.feasible[1:].all()
+    # no feasible two-layer combination costs at least as much and has more margin
+    pb = r.problem
+    pool = pb.evaluate(two_layer_combinations(pb.space))
+    better = pool.feasible & (pool.unit_cost >= ev.unit_cost[-1] - tol) & (
+        pool.margin > ev.margin[-1] + 1e-6)
+    assert not better.any()
+    # the Pareto set is non-dominated and by cost
+    pe = lad.pareto_evaluation
+    assert np.all(np.diff(pe.unit_cost) > 0) and np.all(np.diff(pe.margin) > 0)
+    # the table's deltas are the differences of the boards' own figures
+    t = lad.table
+    np.testing.assert_allclose(t["d_cost"].to_numpy()[1:], np.diff(ev.unit_cost))
+    key = pb.scenario.requirements[0].key
+    np.testing.assert_allclose(t[f"d_attenuation_dB_{key}Hz"].to_numpy()[1:],
+                               np.diff(ev.attenuation[:, 0]))
+
+
+def test_a_free_mitigation_comes_before_a_costly_one():
+    # A second via is free in the demo table; via-in-pad has a fill-and-cap adder. Both
+    # lower the ground inductance and so raise the attenuation above resonance.
+    lad = mitigation_ladder(optimize(_decoupling(), TABLE))
+    t = lad.table
+    assert list(t["kind"]) == ["start", "vias", "via_in_pad"]
+    assert t["d_cost"][1] == 0 and t["d_margin_dB"][1] > 0
+    assert t["d_cost"][2] > 0 and t["d_margin_dB"][2] > 0
+    assert lad.four_layer is None and "no four-layer" in lad.four_layer_note
+
+
+def test_no_ladder_without_two_layer_boards():
+    r = optimize(_decoupling(layers=(4,), mitigations=()), TABLE)
+    assert mitigation_ladder(r) is None
+    files = render_all(r)
+    assert "mitigations.csv" not in files and "mitigations.png" not in files
+    assert json.loads(files["summary.json"])["mitigation_ladder"] is None
+    assert "mitigation ladder" not in files["report.md"].decode()
+
+
+def test_two_layer_demo_shows_the_ladder(demos, tmp_path):
+    r = demos["two"]
+    lad = mitigation_ladder(r)
+    write_all(r, tmp_path / "out")
+    out = tmp_path / "out"
+    df = pd.read_csv(out / "mitigations.csv")
+    steps = df[df["set"] == "ladder"]
+    assert len(steps) == len(lad.steps) >= 2
+    assert (df["set"] == "pareto").any()
+    md = (out / "report.md").read_text()
+    assert "The mitigation ladder" in md and "(mitigations.png)" in md
+    for change in lad.changes:
+        assert change in md
+    assert "no four-layer boards" in md  # the two-layer demo has nothing to compare with
+    data = json.loads((out / "summary.json").read_text())
+    assert len(data["mitigation_ladder"]["steps"]) == len(lad.steps)
+    from matplotlib.image import imread
+
+    assert imread(io.BytesIO((out / "mitigations.png").read_bytes())).shape[1] > 500
+
+
+def test_four_layer_board_set_against_the_ladder(demos):
+    r = demos["harmonic"]
+    lad = mitigation_ladder(r)
+    assert lad.four_layer is not None
+    fev = lad.four_layer_evaluation
+    assert fev.margin[0] >= 0 and fev.geometry.layers[0] == 4
+    four = r.meets & (r.evaluation.geometry.layers == 4)
+    assert fev.unit_cost[0] == pytest.approx(r.evaluation.unit_cost[four].min())
+    assert "four_layer" in set(lad.frame()["set"])
+    assert lad.to_summary()["four_layer"]["unit_cost"] == pytest.approx(fev.unit_cost[0])
