@@ -6,7 +6,7 @@ from typing import Any
 
 __version__ = "0.1.0"
 
-__all__ = ["__version__", "optimize"]
+__all__ = ["__version__", "optimize", "mitigation_ladder"]
 
 
 def optimize(*args: Any, **kwargs: Any) -> Any:
@@ -14,3 +14,11 @@ def optimize(*args: Any, **kwargs: Any) -> Any:
     from stackopt.search.api import optimize as _optimize
 
     return _optimize(*args, **kwargs)
+
+
+def mitigation_ladder(result: Any) -> Any:
+    """The two-layer mitigation ladder of a search result; see
+    :func:`stackopt.search.ladder.mitigation_ladder`."""
+    from stackopt.search.ladder import mitigation_ladder as _ladder
+
+    return _ladder(result)

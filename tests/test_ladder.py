@@ -24,7 +24,7 @@ EMI = ROOT / "scenarios" / "consumer_emi.yaml"
 TABLE = load_cost_table(ROOT / "cost_tables" / "quickturn.yaml")
 
 
-def _decoupling(layers=(2,), mitigations=("via_in_pad",)):
+def _decoupling(layers=(2,), mitigations=("via_in_pad",), lines=()):
     """Hand-built: one 100 nF shunt across a through line, its ground through g1 (a
     0.5 mm pad trace), 20 dB wanted at 1 GHz: far above the series resonance, so less
     ground inductance always means more attenuation (Goldfarb & Pucel 1991; Hammerstad &
@@ -40,6 +40,7 @@ def _decoupling(layers=(2,), mitigations=("via_in_pad",)):
                                         "quantity": 100},
         "circuit": circuit,
         "requirements": [{"frequency": "1 GHz", "min_attenuation": "20 dB"}],
+        "lines": list(lines),
         "space": {"layers": list(layers), "drills": ["0.3 mm"], "vias_per_ground": [1, 2],
                   "mitigations": list(mitigations), "copper": ["1 oz"],
                   "thickness": {"nominal": "1.6 mm", "tolerance": 0.1}}})
@@ -127,3 +128,16 @@ def test_four_layer_board_set_against_the_ladder(demos):
     assert fev.unit_cost[0] == pytest.approx(r.evaluation.unit_cost[four].min())
     assert "four_layer" in set(lad.frame()["set"])
     assert lad.to_summary()["four_layer"]["unit_cost"] == pytest.approx(fev.unit_cost[0])
+
+
+def test_infeasible_two_layer_space_is_said_plainly():
+    # no width reaches 5 kohm on any board: every two-layer combination is infeasible
+    from stackopt.outputs.report_ladder import ladder_section
+
+    sc = _decoupling(lines=[{"name": "z", "type": "microstrip", "impedance": "5000 ohm"}])
+    r = optimize(sc, TABLE)
+    lad = mitigation_ladder(r)
+    assert len(lad.steps) == 1 and not lad.evaluation.feasible[0]
+    answer = ladder_section(r, lad)[1][1]
+    assert answer.startswith("No: no two-layer combination is feasible")
+    assert "line_z_unreachable" in answer

@@ -23,6 +23,10 @@ def _answer(ladder, cur: str, q: int) -> str:
     ev = ladder.evaluation
     c0, end = float(ev.unit_cost[0]), len(ev.unit_cost) - 1
     k = ladder.first_meeting
+    if not ev.feasible[0]:
+        return ("No: no two-layer combination is feasible for this fab and scenario (the "
+                "simplest one violates " + "; ".join(ev.violated(0)) + "). "
+                + ladder.four_layer_note)
     if k == 0:
         text = (f"Yes: the plain two-layer board already meets every requirement, at "
                 f"{money(c0, cur)} per board with {db(ev.margin[0], sign=True)} of margin.")
