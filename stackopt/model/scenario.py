@@ -82,9 +82,11 @@ class Requirement(BaseModel):
 
     @property
     def key(self) -> str:
-        """The frequency in Hz as a string (for a band, its low edge), the summary's key."""
-        f = self.frequency if self.frequency is not None else self.band[0]  # type: ignore[index]
-        return f"{f:.10g}"
+        """The frequency in Hz as a string (for a band ``"low-high"``), the summary's key."""
+        if self.frequency is not None:
+            return f"{self.frequency:.10g}"
+        lo, hi = self.band  # type: ignore[misc]
+        return f"{lo:.10g}-{hi:.10g}"
 
 
 class ControlledLine(BaseModel):
@@ -194,9 +196,11 @@ class Scenario(BaseModel):
     def _check(self) -> Scenario:
         if self.search.objective == "margin" and not self.requirements:
             raise ValueError("objective 'margin' needs at least one entry in 'requirements'")
-        names = [r.label for r in self.requirements]
-        if len(set(names)) != len(names):
-            raise ValueError("two requirements have the same frequency or name; merge them")
+        for attr in ("label", "key"):
+            names = [getattr(r, attr) for r in self.requirements]
+            if len(set(names)) != len(names):
+                raise ValueError("two requirements have the same frequency or name; "
+                                 "merge them or name them apart")
         return self
 
     @property

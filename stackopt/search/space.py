@@ -184,7 +184,8 @@ class Space:
         sp = scenario.space
         counts = sorted({n for n in sp.layers if n <= max_layers})
         drills = tuple(d for d in sp.drills if d >= min_drill * (1 - 1e-9))
-        arrs = tuple(a for n in counts for a in arrangements(n, sp.symmetric))
+        arrs = tuple(a for n in counts for a in arrangements(n, sp.symmetric)
+                     if all(len(catalogue.get(k, ())) for k in a.slot_kinds))
         mits = tuple(m for m in MITIGATIONS if m in sp.mitigations)
         return cls(arrs, catalogue, tuple(sp.copper), drills, tuple(sp.vias_per_ground),
                    mits, n_materials, material_names)
