@@ -314,7 +314,8 @@ class CostTable(BaseModel):
 
         Index ``k`` of this tuple is column ``k`` of ``PriceBatch.material_counts``.
         """
-        rows = [(m, "prepreg") for m in self.materials.prepregs]
+        rows: list[tuple[_Stocked, Literal["prepreg", "core"]]] = [
+            (m, "prepreg") for m in self.materials.prepregs]
         rows += [(m, "core") for m in self.materials.cores]
         return tuple(CatalogueItem(m.id, kind, m.thickness, m.dk, m.df, m.per_panel,
                                    getattr(m, "glass", None)) for m, kind in rows)

@@ -41,8 +41,8 @@ class Dielectric(BaseModel):
     material: str = Field(min_length=1, description="catalogue name, e.g. '2116' or 'core 0.2'")
     thickness: PositiveLength = Field(description="pressed thickness, m")
     er: PositiveFloat = Field(description="relative permittivity (Dk) near 1 GHz")
-    df: float = Field(0.02, ge=0.0, lt=1.0, description="loss tangent (Df)")
-    plies: int = Field(1, ge=1, le=6)
+    df: float = Field(default=0.02, ge=0.0, lt=1.0, description="loss tangent (Df)")
+    plies: int = Field(default=1, ge=1, le=6)
 
     @model_validator(mode="after")
     def _ranges(self) -> Dielectric:
