@@ -23,7 +23,7 @@ import math
 import warnings
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, TypedDict
 
 from pydantic import BaseModel
 
@@ -202,6 +202,15 @@ def _raw(doc: Document | None, path: tuple) -> Any:
     return cur if isinstance(cur, str | int | float) and not isinstance(cur, bool) else None
 
 
+class _Where(TypedDict):
+    """Where a value sits, in the keywords :class:`InputError` and the warning take."""
+
+    file: str | None
+    key: list[str | int]
+    line: int | None
+    column: int | None
+
+
 def check_ranges(model: BaseModel, rules: Sequence[Rule], doc: Document | None = None,
                  file: str | None = None) -> None:
     """Apply ``rules`` to a validated model.
@@ -227,7 +236,7 @@ def check_ranges(model: BaseModel, rules: Sequence[Rule], doc: Document | None =
             if raw is not None and str(raw) != shown:
                 shown += f" (from {raw!r})"
             line, col = doc.where(path) if doc is not None else (None, None)
-            where = {"file": fname, "key": list(path), "line": line, "column": col}
+            where: _Where = {"file": fname, "key": list(path), "line": line, "column": col}
             if not (math.isfinite(x) and rule.lo <= x <= rule.hi):
                 raise InputError(f"{shown} is not a plausible value for {rule.what}",
                                  fix=f"give {_fmt(rule.lo, rule.dim)} to "

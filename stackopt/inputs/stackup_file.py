@@ -54,7 +54,7 @@ def _check_keys(doc: Document, data: dict, allowed: tuple[str, ...], path: list)
 
 
 def _layer(doc: Document, k: int, item: object) -> Copper | Dielectric:
-    path = ["layers", k]
+    path: list[str | int] = ["layers", k]
     if not isinstance(item, dict):
         raise doc.error("each layer is a mapping such as {kind: copper, thickness: 35 um}",
                         path, fix="see the file written by 'stackopt optimize'")

@@ -77,8 +77,9 @@ def validate_model(model: type[M], doc: Document, prefix: Sequence[str | int] = 
             name = str(loc[-1])
             allowed = _fields_at(model, parent)
             hint = did_you_mean(name, allowed)
-            fix = f"allowed keys here: {', '.join(allowed)}" if allowed else "remove it"
-            raise doc.error(f"unknown key '{name}'{hint}", loc, fix=fix) from None
+            raise doc.error(f"unknown key '{name}'{hint}", loc,
+                            fix=f"allowed keys here: {', '.join(allowed)}" if allowed
+                            else "remove it") from None
         if kind == "missing":
             raise doc.error("required key is missing", loc,
                             fix=f"add '{loc[-1]}' (see the documented example)") from None
