@@ -137,7 +137,7 @@ class GroundBatch:
     @property
     def own_landing(self) -> np.ndarray:
         """Every element has its own via set: ``own_vias`` or a coplanar pour (N,)."""
-        return self.own_vias | self.coplanar  # type: ignore[operator]
+        return self.own_vias | self.coplanar
 
     def take(self, idx: ArrayLike) -> GroundBatch:
         """The candidates at ``idx`` (indices or mask)."""

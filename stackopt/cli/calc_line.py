@@ -164,12 +164,12 @@ def compute(args: argparse.Namespace) -> dict[str, Any]:
     w = _width(args)
     kind, h, er, t = args.line_type, args.height, args.er, args.copper
     if kind == "microstrip":
-        z0, eps = microstrip(w, h, er, t, _options(args)["model"])
+        z, e = microstrip(w, h, er, t, _options(args)["model"])
     elif kind == "stripline":
-        z0, eps = stripline(w, h, er, t), er
+        z, e = stripline(w, h, er, t), er
     else:
-        z0, eps = cpwg(w, args.gap, h, er, t)
-    z0, eps = float(z0), float(eps)
+        z, e = cpwg(w, args.gap, h, er, t)
+    z0, eps = float(z), float(e)
     if not math.isfinite(z0) or z0 <= 0:
         raise InputError(f"the {kind} model gives no impedance for this geometry",
                          key="--width" if args.width is not None else "--target",

@@ -91,7 +91,7 @@ def _check(args: argparse.Namespace) -> None:
 def _inductances(args: argparse.Namespace) -> dict[str, float]:
     """Inductance [H] of the via group by every model (nan where a model gives <= 0)."""
     xy = row_positions(args.count, args.pitch if args.count > 1 else 0.0)
-    out = {}
+    out: dict[str, float] = {}
     for name in VIA_MODELS:  # a handful of models, not a batch
         single = float(ground_via_inductance(args.depth, args.drill, name))
         value = float(parallel_via_inductance(args.depth, args.drill, xy, name))

@@ -36,7 +36,7 @@ def load_inputs(scenario: str | None, costs: str | None) -> Inputs:
     from stackopt.inputs.scenario import demo_paths, load_scenario
 
     demo = scenario is None
-    if demo:
+    if scenario is None:
         s_path, demo_costs = demo_paths()
     else:
         s_path, demo_costs = Path(scenario), None

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 import json
+from typing import Any
 
 from stackopt.cli.common import load_inputs, money, table
 from stackopt.units import format_quantity as fq
@@ -35,7 +36,7 @@ def run(args: argparse.Namespace) -> int:
     ev = evaluate_stackup(problem, sf, args.stackup)
     g = ev.geometry
     sc = inp.scenario
-    out = {
+    out: dict[str, Any] = {
         "layers": int(g.layers[0]), "thickness_m": float(g.thickness[0]),
         "ground_plane_depth_m": float(g.depth[0]),
         "ground_inductance_H": float(ev.inductance[0]),

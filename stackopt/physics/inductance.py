@@ -41,10 +41,10 @@ __all__ = [
     "check_via_model",
 ]
 
-#: The ground-via models by name, in the order they are shown; the first is the default.
-VIA_MODELS: tuple[str, ...] = ("goldfarb-pucel", "johnson", "rosa", "image")
 #: A ground-via model name (see :data:`VIA_MODELS`).
 ViaModel = Literal["goldfarb-pucel", "johnson", "rosa", "image"]
+#: The ground-via models by name, in the order they are shown; the first is the default.
+VIA_MODELS: tuple[ViaModel, ...] = ("goldfarb-pucel", "johnson", "rosa", "image")
 
 #: Via depths [m] over which Goldfarb & Pucel (1991) fitted their formula to data.
 GOLDFARB_PUCEL_FIT_RANGE: tuple[float, float] = (0.1e-3, 0.63e-3)
