@@ -77,7 +77,7 @@ def figure_bytes(fig: Figure, fmt: str = "png") -> bytes:
     """The figure encoded as ``png`` or ``svg``, deterministically."""
     buf = io.BytesIO()
     meta = _PNG_META if fmt == "png" else _SVG_META
-    with mpl.rc_context(STYLE):
+    with mpl.rc_context(STYLE):  # type: ignore[arg-type]  # stubs want Literal rc keys
         fig.savefig(buf, format=fmt, metadata=meta)
     return buf.getvalue()
 
@@ -178,7 +178,7 @@ def _requirement_marks(ax, result, ylo: float) -> None:
             span = 0.03 * ax.get_xlim()[1]
             lo, hi = f0 - span / 2, f0 + span / 2
         else:
-            lo, hi = r.band[0] / 1e9, r.band[1] / 1e9  # type: ignore[index]
+            lo, hi = r.band[0] / 1e9, r.band[1] / 1e9
         ax.fill_between([lo, hi], [top, top], [0, 0], color="#d62728", alpha=0.12,
                         lw=0, zorder=1, label="not allowed (requirement)" if k == 0 else None)
         ax.plot([lo, hi], [top, top], color="#d62728", lw=2.0, zorder=5)

@@ -24,7 +24,8 @@ EXACT_WORK_LIMIT = 2e8
 Method = Literal["auto", "exact", "nsga2"]
 
 
-def _load(scenario: Scenario | str | Path, cost_table: CostTable | str | Path | None):
+def _load(scenario: Scenario | str | Path, cost_table: CostTable | str | Path | None
+          ) -> tuple[Scenario, CostTable]:
     from stackopt.inputs.costtable import load_cost_table
     from stackopt.inputs.scenario import load_scenario, scenario_cost_table
 
@@ -39,6 +40,18 @@ def _load(scenario: Scenario | str | Path, cost_table: CostTable | str | Path | 
     if not isinstance(cost_table, CostTable):
         cost_table = load_cost_table(cost_table)
     return scenario, cost_table
+
+
+def _counting(progress: Callable[[int, int], None], total: int) -> Callable[[int], None]:
+    """NSGA-II's ``on_eval``: add up the evaluations, call ``progress(done, total)``."""
+    done = 0
+
+    def on_eval(k: int) -> None:
+        nonlocal done
+        done += k
+        progress(done, total)
+
+    return on_eval
 
 
 def optimize(
@@ -97,9 +110,7 @@ def optimize(
         from stackopt.search.nsga2 import run_nsga2
 
         archive = run_nsga2(problem, budget, seed,
-                            on_eval=(lambda k, _t=[0]: (_t.__setitem__(0, _t[0] + k),
-                                                        progress(_t[0], budget))[0])
-                            if progress else None)
+                            on_eval=_counting(progress, budget) if progress else None)
         cands = archive.candidates(problem.space.n_slots)
         evaluated = archive.evaluations
     ev = problem.evaluate(cands)
@@ -111,7 +122,7 @@ def optimize(
         if v is not None:
             keep[v] = True
     idx = np.flatnonzero(keep)
-    spread = {}
+    spread: dict[str, np.ndarray] = {}
     sub = cands.take(idx)
     g = problem.space.geometry(sub)
     from stackopt.circuit.metrics import attenuation_db

@@ -16,6 +16,7 @@ whole space (``tests/test_search_exact.py`` checks this against brute force).
 from __future__ import annotations
 
 import itertools
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -201,7 +202,7 @@ def enumerate_all(space: Space, limit: int = 2_000_000) -> Candidates:
         raise ValueError(f"space of {space.size} stackups is too large to enumerate")
     parts = []
     for ai, a in enumerate(space.arrangements):
-        ranges = [range(n) for n in space.gene_options(a)]
+        ranges: list[Sequence[int]] = [range(n) for n in space.gene_options(a)]
         ranges += [range(len(space.copper)), range(len(space.drills)), range(len(space.vias))]
         ranges += [(0, 1)] * len(space.mitigations)
         rows = np.array(list(itertools.product(*ranges)), dtype=np.int64)

@@ -32,6 +32,7 @@ from __future__ import annotations
 import itertools
 import math
 import weakref
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -67,8 +68,9 @@ def two_layer_combinations(space: Space) -> Candidates:
     for ai, a in enumerate(space.arrangements):
         if a.n_layers != 2:
             continue
-        ranges = [range(len(space.options["core"])), range(len(space.copper)),
-                  range(len(space.drills)), range(len(space.vias))]
+        ranges: list[Sequence[int]] = [range(len(space.options["core"])),
+                                       range(len(space.copper)), range(len(space.drills)),
+                                       range(len(space.vias))]
         ranges += [(0, 1)] * len(space.mitigations)
         rows = np.array(list(itertools.product(*ranges)), dtype=np.int64).reshape(
             -1, len(ranges))
@@ -284,7 +286,7 @@ class Ladder:
             return {k: (v.item() if hasattr(v, "item") else v) for k, v in row.items()}
         t = self.table
         four = None
-        if self.four_layer_evaluation is not None:
+        if self.four_layer is not None and self.four_layer_evaluation is not None:
             four = rec(pd.DataFrame(self._columns(self.four_layer, self.four_layer_evaluation)
                                     ).iloc[0])
         return {"steps": [rec(r) for _, r in t.iterrows()],

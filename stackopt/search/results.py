@@ -6,6 +6,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 from functools import cached_property
+from typing import Any
 
 import numpy as np
 import pandas as pd
@@ -132,7 +133,7 @@ class Result:
             return []
         names = self.problem.space.slot_names(self.candidates)[:, 0]
         ev = self.evaluation
-        out = []
+        out: list[dict[str, Any]] = []
         for name in sorted(set(names[feas])):  # a few dozen catalogue options at most
             rows = feas[names[feas] == name]
             best = int(rows[np.lexsort((ev.unit_cost[rows], -ev.margin[rows]))[0]])
