@@ -149,15 +149,15 @@ def first_screen(result) -> list[tuple]:
     if c.d_unit <= 0:
         text += (" Against the best two-layer option there is no trade-off: the multilayer "
                  "board is both cheaper and better.")
+    if c.d_unit > 0 and c.cost_per_db is not None:
+        text += (f" That is {money(c.cost_per_db, cur, 3)} per board "
+                 f"({money(c.lot_per_db, cur, 0)} per lot) for each dB of margin.")
     cheap2 = result.picks.get("cheapest_two_layer")
     if cheap2 is not None and cheap2 != c.two:
         d = ev.unit_cost[c.meet] - ev.unit_cost[cheap2]
         text += (f" Against the cheapest two-layer board ({result.ids[cheap2]}, "
                  f"{db(ev.margin[cheap2], sign=True)}) it costs {money(abs(d), cur)} per "
                  f"board {'more' if d > 0 else 'less'}.")
-    if c.d_unit > 0 and c.cost_per_db is not None:
-        text += (f" That is {money(c.cost_per_db, cur, 3)} per board "
-                 f"({money(c.lot_per_db, cur, 0)} per lot) for each dB of margin.")
     out.append(("answer", text))
     out.append(_compare_table(result, c.two, c.meet))
     return out
