@@ -140,7 +140,7 @@ class SpaceSpec(BaseModel):
     copper: tuple[PositiveLength, ...] = (34.3e-6,)
     drills: tuple[PositiveLength, ...] = (0.3e-3,)
     vias_per_ground: tuple[int, ...] = (1,)
-    max_plies: int = Field(3, ge=1, le=4, description="prepreg plies per opening, at most")
+    max_plies: int = Field(default=3, ge=1, le=4, description="prepreg plies per opening, at most")
     mitigations: tuple[Mitigation, ...] = ()
 
     @model_validator(mode="after")
@@ -163,11 +163,11 @@ class SearchSpec(BaseModel):
 
     model_config = FROZEN
     objective: Objective = "margin"
-    at: Frequency | None = Field(None, description="frequency for objective 'attenuation'")
+    at: Frequency | None = Field(default=None, description="frequency for objective 'attenuation'")
     third_objective: Literal["lead_time"] | None = None
     method: Literal["auto", "exact", "nsga2"] = "auto"
-    budget: int = Field(20_000, ge=100, le=10_000_000)
-    seed: int = Field(1, ge=0, le=2**32 - 1)
+    budget: int = Field(default=20_000, ge=100, le=10_000_000)
+    seed: int = Field(default=1, ge=0, le=2**32 - 1)
     via_model: ViaModelName = "goldfarb-pucel"
 
     @model_validator(mode="after")

@@ -71,7 +71,7 @@ class Arrangement:
         s = self.n_layers - 1
         if not self.symmetric:
             return tuple((i,) for i in range(s))
-        pairs = [(i, s - 1 - i) for i in range(s // 2)]
+        pairs: list[tuple[int, ...]] = [(i, s - 1 - i) for i in range(s // 2)]
         if s % 2:
             pairs.append((s // 2,))
         return tuple(pairs)
