@@ -79,21 +79,11 @@ class StackoptError(Exception):
     exit_code = 2
 
 
-class InputError(ValueError, StackoptError):
-    """A value in a file or on the command line is wrong.
+class _Located(Exception):
+    """The located one-line message :class:`InputError` and :class:`StackoptWarning` share.
 
-    Parameters
-    ----------
-    message : str
-        What is wrong, e.g. ``"thickness must be positive, got -0.1 mm"``.
-    file : str or Path, optional
-        The file it came from.
-    key : sequence or str, optional
-        Key path inside the file (``("stackup", 2, "thickness")``) or the CLI option.
-    line, column : int, optional
-        1-based position in the file, where known.
-    fix : str, optional
-        What would be accepted.
+    Keeps the parts (``message``, ``file``, ``key``, ``line``, ``column``, ``fix``) as
+    attributes and passes :func:`one_line` of them to the exception's own ``__init__``.
     """
 
     def __init__(
@@ -117,6 +107,24 @@ class InputError(ValueError, StackoptError):
     def _render(self) -> str:
         return one_line(self.message, file=self.file, key=self.key, line=self.line,
                         column=self.column, fix=self.fix)
+
+
+class InputError(_Located, ValueError, StackoptError):
+    """A value in a file or on the command line is wrong.
+
+    Parameters
+    ----------
+    message : str
+        What is wrong, e.g. ``"thickness must be positive, got -0.1 mm"``.
+    file : str or Path, optional
+        The file it came from.
+    key : sequence or str, optional
+        Key path inside the file (``("stackup", 2, "thickness")``) or the CLI option.
+    line, column : int, optional
+        1-based position in the file, where known.
+    fix : str, optional
+        What would be accepted.
+    """
 
     def located(
         self,
@@ -144,7 +152,7 @@ class InputError(ValueError, StackoptError):
         return err
 
 
-class StackoptWarning(UserWarning):
+class StackoptWarning(_Located, UserWarning):
     """A legal but unusual input value (e.g. a Dk above 10, a requirement above 20 GHz).
 
     The library only *issues* these (``warnings.warn(StackoptWarning(...))``); it never
@@ -153,25 +161,6 @@ class StackoptWarning(UserWarning):
     them or turn them into errors there). ``str()`` is one line, located like
     :class:`InputError`.
     """
-
-    def __init__(
-        self,
-        message: str,
-        *,
-        file: str | Path | None = None,
-        key: Sequence[str | int] | str | None = None,
-        line: int | None = None,
-        column: int | None = None,
-        fix: str | None = None,
-    ) -> None:
-        self.message = message
-        self.file = str(file) if file is not None else None
-        self.key = format_key_path(key)
-        self.line = line
-        self.column = column
-        self.fix = fix
-        super().__init__(one_line(message, file=self.file, key=self.key, line=line,
-                                  column=column, fix=fix))
 
 
 class UnitError(InputError):
