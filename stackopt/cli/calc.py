@@ -4,9 +4,25 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import json
+from collections.abc import Callable
+from typing import Any
 
 #: Calculator modules; each defines ``register(subparsers)``.
 CALCULATORS = ("stackopt.cli.calc_via", "stackopt.cli.calc_line")
+
+
+def calculator(compute: Callable[[argparse.Namespace], dict[str, Any]],
+               render: Callable[[dict[str, Any]], str]) -> Callable[[argparse.Namespace], int]:
+    """The ``func`` of a calculator: ``compute(args)``, then print it as one JSON object
+    (``--json``) or as ``render``'s table; exit code 0."""
+
+    def run(args: argparse.Namespace) -> int:
+        result = compute(args)
+        print(json.dumps(result) if args.json else render(result))
+        return 0
+
+    return run
 
 
 def register(sub: argparse._SubParsersAction) -> None:

@@ -7,14 +7,14 @@ Prints one JSON object with ``--json`` (keys at least ``z0_ohm``, ``width_m``,
 from __future__ import annotations
 
 import argparse
-import json
 import math
 from typing import Any
 
 import numpy as np
 
-from stackopt.cli.options import quantity
-from stackopt.errors import InputError, did_you_mean
+from stackopt.cli.calc import calculator
+from stackopt.cli.options import choice, quantity
+from stackopt.errors import InputError
 from stackopt.physics.constants import C0
 from stackopt.physics.coplanar import cpwg
 from stackopt.physics.lines import MICROSTRIP_MODELS, microstrip, stripline
@@ -44,20 +44,6 @@ stitched to the plane below). All quasi-static: no dispersion, no loss.
 """
 
 
-def _choice(names: tuple[str, ...], what: str):
-    """Make an argparse ``type=`` accepting one of ``names`` (with a did-you-mean)."""
-
-    def parse(text: str) -> str:
-        if text not in names:
-            raise argparse.ArgumentTypeError(
-                f"unknown {what} {text!r}{did_you_mean(text, names)}; "
-                f"use one of: {', '.join(names)}")
-        return text
-
-    parse.__name__ = what
-    return parse
-
-
 def _er(text: str) -> float:
     """Parse ``--er``: a finite number in :data:`ER_RANGE` (argparse ``type=``)."""
     try:
@@ -81,7 +67,7 @@ def register(sub: argparse._SubParsersAction) -> None:
         "Lengths take mm, um, mil, in or bare metres.",
         epilog=EPILOG, formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("--type", required=True, dest="line_type", metavar="TYPE",
-                   type=_choice(LINE_TYPES, "line type"),
+                   type=choice(LINE_TYPES, "line type"),
                    help=f"one of {', '.join(LINE_TYPES)}")
     p.add_argument("--height", required=True, metavar="LENGTH",
                    type=quantity("length", "--height"),
@@ -99,7 +85,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--gap", metavar="LENGTH", type=quantity("length", "--gap"),
                    help="cpwg only (required there): trace edge to coplanar ground copper")
     p.add_argument("--model", default=None, metavar="MODEL",
-                   type=_choice(MICROSTRIP_MODELS, "model"),
+                   type=choice(MICROSTRIP_MODELS, "model"),
                    help=f"microstrip only: {', '.join(MICROSTRIP_MODELS)} "
                    f"(default: {MICROSTRIP_MODELS[0]})")
     p.add_argument("--json", action="store_true", help="print one JSON object")
@@ -220,8 +206,5 @@ def render(result: dict[str, Any]) -> str:
     return "\n".join(lines)
 
 
-def run(args: argparse.Namespace) -> int:
-    """Compute and print; the ``func`` of ``stackopt calc line``."""
-    result = compute(args)
-    print(json.dumps(result) if args.json else render(result))
-    return 0
+#: Compute and print; the ``func`` of ``stackopt calc line``.
+run = calculator(compute, render)

@@ -8,14 +8,14 @@ short table that shows the spread between the models.
 from __future__ import annotations
 
 import argparse
-import json
 import math
 from typing import Any
 
 import numpy as np
 
-from stackopt.cli.options import count, quantity
-from stackopt.errors import InputError, ModelError, did_you_mean
+from stackopt.cli.calc import calculator
+from stackopt.cli.options import choice, count, quantity
+from stackopt.errors import InputError, ModelError
 from stackopt.physics.inductance import (
     GOLDFARB_PUCEL_FIT_RANGE,
     VIA_MODELS,
@@ -39,15 +39,6 @@ plane). They differ by a factor of 2-8 for the same via; the table shows all of 
 """
 
 
-def _model(text: str) -> str:
-    """Parse ``--model`` (argparse ``type=``); the error lists the allowed names."""
-    if text not in VIA_MODELS:
-        raise argparse.ArgumentTypeError(
-            f"unknown model {text!r}{did_you_mean(text, VIA_MODELS)}; "
-            f"use one of: {', '.join(VIA_MODELS)}")
-    return text
-
-
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``via`` calculator to ``stackopt calc``."""
     p = sub.add_parser(
@@ -62,7 +53,8 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--drill", required=True, metavar="LENGTH",
                    type=quantity("length", "--drill"),
                    help="plated barrel diameter, e.g. 0.3mm")
-    p.add_argument("--model", default=VIA_MODELS[0], metavar="MODEL", type=_model,
+    p.add_argument("--model", default=VIA_MODELS[0], metavar="MODEL",
+                   type=choice(VIA_MODELS, "model"),
                    help=f"one of {', '.join(VIA_MODELS)} (default: %(default)s)")
     p.add_argument("--count", default=1, metavar="N", type=count("--count", 1, 100),
                    help="vias in parallel, placed in a row (default: 1)")
@@ -169,8 +161,5 @@ def render(result: dict[str, Any]) -> str:
     return "\n".join(lines)
 
 
-def run(args: argparse.Namespace) -> int:
-    """Compute and print; the ``func`` of ``stackopt calc via``."""
-    result = compute(args)
-    print(json.dumps(result) if args.json else render(result))
-    return 0
+#: Compute and print; the ``func`` of ``stackopt calc via``.
+run = calculator(compute, render)

@@ -3,9 +3,9 @@
 from __future__ import annotations
 
 import argparse
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 
-from stackopt.errors import UnitError
+from stackopt.errors import UnitError, did_you_mean
 from stackopt.units import Dimension, parse_quantity
 
 
@@ -27,6 +27,21 @@ def quantity(dim: Dimension, option: str, *, positive: bool = True) -> Callable[
         return x
 
     parse.__name__ = dim  # argparse shows this in its messages
+    return parse
+
+
+def choice(names: Sequence[str], what: str) -> Callable[[str], str]:
+    """An argparse ``type=`` accepting one of ``names`` (the error lists them, with a
+    did-you-mean); ``what`` names the option's value in the message (``"model"``)."""
+
+    def parse(text: str) -> str:
+        if text not in names:
+            raise argparse.ArgumentTypeError(
+                f"unknown {what} {text!r}{did_you_mean(text, names)}; "
+                f"use one of: {', '.join(names)}")
+        return text
+
+    parse.__name__ = what
     return parse
 
 
