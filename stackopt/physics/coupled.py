@@ -25,12 +25,9 @@ def _kj_static(u, g, er):
     eps = _hj_eps(u, er)
     z01 = _hj_z01(u)  # air impedance of the single strip: Z0 sqrt(eps) = Z01
     z0 = z01 / np.sqrt(eps)
-    # even-mode permittivity
+    # even-mode permittivity: the Hammerstad–Jensen form at the modified width v
     v = u * (20.0 + g**2) / (10.0 + g**2) + g * np.exp(-g)
-    ae = (1.0 + np.log((v**4 + (v / 52.0) ** 2) / (v**4 + 0.432)) / 49.0
-          + np.log(1.0 + (v / 18.1) ** 3) / 18.7)
-    be = 0.564 * ((er - 0.9) / (er + 3.0)) ** 0.053
-    eps_e = (er + 1.0) / 2.0 + (er - 1.0) / 2.0 * (1.0 + 10.0 / v) ** (-ae * be)
+    eps_e = _hj_eps(v, er)
     # odd-mode permittivity
     a0 = 0.7287 * (eps - (er + 1.0) / 2.0) * (1.0 - np.exp(-0.179 * u))
     b0 = 0.747 * er / (0.15 + er)
