@@ -134,22 +134,24 @@ def first_screen(result) -> list[tuple]:
                     f"{money(ev.unit_cost[c.meet], cur)} per board "
                     f"({money(ev.lot_cost[c.meet], cur, 0)} for the lot of {q:,})."))
         return out
+    d_unit, d_lot = c.d_unit, c.d_lot
+    assert d_unit is not None and d_lot is not None  # both sides exist here
     gains = ", ".join(f"{d:+.1f} dB at {lab}" for lab, d in c.d_att)
-    if c.d_unit > 0:
-        price_words = (f"cost {money(c.d_unit, cur)} more per board "
-                       f"({money(c.d_lot, cur, 0)} more for the lot of {q:,})")
+    if d_unit > 0:
+        price_words = (f"cost {money(d_unit, cur)} more per board "
+                       f"({money(d_lot, cur, 0)} more for the lot of {q:,})")
     else:  # the multilayer board is no dearer than the best (mitigated) two-layer one
-        price_words = (f"cost {money(-c.d_unit, cur)} less per board than the best "
-                       f"two-layer option ({money(-c.d_lot, cur, 0)} less for the lot of "
+        price_words = (f"cost {money(-d_unit, cur)} less per board than the best "
+                       f"two-layer option ({money(-d_lot, cur, 0)} less for the lot of "
                        f"{q:,})")
     text = (f"{_words(n).capitalize()} layers {price_words} and buy {gains}. "
             f"The best two-layer option ({result.ids[c.two]}) {_misses(result, c.two)}; "
             f"the cheapest {n}-layer stackup that meets every requirement "
             f"({result.ids[c.meet]}) has {db(ev.margin[c.meet], sign=True)} of margin.")
-    if c.d_unit <= 0:
+    if d_unit <= 0:
         text += (" Against the best two-layer option there is no trade-off: the multilayer "
                  "board is both cheaper and better.")
-    if c.d_unit > 0 and c.cost_per_db is not None:
+    if d_unit > 0 and c.cost_per_db is not None:
         text += (f" That is {money(c.cost_per_db, cur, 3)} per board "
                  f"({money(c.lot_per_db, cur, 0)} per lot) for each dB of margin.")
     cheap2 = result.picks.get("cheapest_two_layer")
