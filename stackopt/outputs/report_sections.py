@@ -67,6 +67,8 @@ def risks(result) -> list[str]:
     sel = selected_index(result)
     c = comparison(result)
     cases = [(c.two, "best two-layer"), (sel, "recommended")]
+    if c.two is not None and c.two == sel:
+        cases = [(sel, "recommended (also the best two-layer)")]
     for i, what in cases:
         if i is None:
             continue
@@ -83,7 +85,7 @@ def risks(result) -> list[str]:
                            "wide: it will not fan into a fine-pitch part (pads of about "
                            "0.25-0.45 mm) without a taper, which is an impedance step right "
                            "at the part.")
-        if what == "best two-layer" and i is not None:
+        if i == c.two:
             mit = [m.replace("_", " ") for m in result.problem.space.mitigations
                    if g.flags[m][i]]
             if mit:
