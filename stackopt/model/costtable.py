@@ -17,6 +17,8 @@ from typing import Annotated, ClassVar, Literal
 from pydantic import AfterValidator, BaseModel, Field, field_validator, model_validator
 
 from stackopt.errors import InputError
+from stackopt.model import construction as _construction
+from stackopt.model.construction import Construction
 from stackopt.model.fields import FROZEN, NonNegativeLength, PositiveFloat, PositiveLength
 
 __all__ = [
@@ -272,6 +274,8 @@ class CostTable(BaseModel):
     setup: dict[int, Price] = Field(description="setup/tooling/NRE per lot by layer count")
     lead_time: dict[int, WorkingDays] = Field(description="working days by layer count")
     capabilities: Capabilities
+    constructions: tuple[Construction, ...] = Field(
+        default=(), description="standard builds a scenario may restrict the search to")
 
     @field_validator("currency")
     @classmethod
@@ -294,6 +298,10 @@ class CostTable(BaseModel):
                                      f"add '{n}: ...' under {key}")
         _ascending(self.copper, "weight", "per_layer", "copper", "heavier copper")
         _ascending(self.drill, "min_drill", "per_panel", "drill", "a larger drill", rising=False)
+        problem = _construction.check(
+            self.constructions, {m.id: m.kind for m in self.materials_list()}, priced)
+        if problem is not None:
+            raise TableRuleError(*problem)
         smallest = min(d.min_drill for d in self.drill)
         if smallest > self.capabilities.min_drill * (1 + 1e-9):
             raise TableRuleError(

@@ -142,6 +142,8 @@ class SpaceSpec(BaseModel):
     vias_per_ground: tuple[int, ...] = (1,)
     max_plies: int = Field(default=3, ge=1, le=4, description="prepreg plies per opening, at most")
     mitigations: tuple[Mitigation, ...] = ()
+    constructions: Literal["any", "standard"] = Field(
+        default="any", description="'standard': only the fab's listed constructions")
 
     @model_validator(mode="after")
     def _check(self) -> SpaceSpec:

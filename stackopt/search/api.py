@@ -98,6 +98,12 @@ def optimize(
                          "is offered by the fab", key="space",
                          fix="allow layer counts and drills that the cost table prices")
     work = exact_work(problem)
+    if problem.space.constructions:
+        if method == "nsga2":
+            raise InputError("NSGA-II does not search a space of standard constructions",
+                             key="method", fix="use method auto or exact (such a space is "
+                             "small and is evaluated whole)")
+        method = "exact"
     if method == "auto":
         method = "exact" if work <= EXACT_WORK_LIMIT else "nsga2"
     stats: dict = {"exact_work_estimate": int(work)}

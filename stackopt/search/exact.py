@@ -25,7 +25,8 @@ from stackopt.cost import PriceBatch, price
 from stackopt.search.problem import Problem
 from stackopt.search.space import Arrangement, Candidates, Space
 
-__all__ = ["ExactPlan", "exact_candidates", "enumerate_all", "exact_work"]
+__all__ = ["ExactPlan", "exact_candidates", "enumerate_all", "exact_work",
+           "construction_candidates"]
 
 _BIG = 1e30
 
@@ -127,10 +128,39 @@ def exact_work(problem: Problem) -> int:
     return total
 
 
+def construction_candidates(space: Space) -> Candidates:
+    """Every stackup of a space restricted to the fab's standard constructions: each build
+    on each arrangement of its layer count, with every copper, drill, via count and
+    mitigation switch (such spaces are small, so all are evaluated)."""
+    parts = []
+    n_mit = len(space.mitigations)
+    for ai, a in enumerate(space.arrangements):
+        builds = [b for b in space.constructions if b[1] == a.n_layers]
+        if not builds:
+            continue
+        grids = np.meshgrid(np.arange(len(builds)), np.arange(len(space.copper)),
+                            np.arange(len(space.drills)), np.arange(len(space.vias)),
+                            *[np.arange(2)] * n_mit, indexing="ij")
+        cols = [g.ravel() for g in grids]
+        n = len(cols[0])
+        slots = np.full((len(builds), space.n_slots), -1, dtype=np.int64)
+        for k, b in enumerate(builds):
+            slots[k, : len(b[2])] = b[2]
+        mit = (np.column_stack(cols[4:]).astype(bool) if n_mit
+               else np.zeros((n, 0), dtype=bool))
+        parts.append(Candidates(arr=np.full(n, ai), slot=slots[cols[0]], copper=cols[1],
+                                drill=cols[2], vias=cols[3], mit=mit))
+    return Candidates.concat(parts)
+
+
 def exact_candidates(problem: Problem) -> ExactPlan:
     """One representative per electrical group: the cheapest tail meeting the thickness
-    rules (or, if none does, the least violating one, so it is reported as infeasible)."""
+    rules (or, if none does, the least violating one, so it is reported as infeasible).
+    A space of standard constructions is enumerated whole."""
     sp = problem.space
+    if sp.constructions:
+        c = construction_candidates(sp)
+        return ExactPlan(c, 0, len(c))
     vip_values = (False, True) if "via_in_pad" in sp.mitigations else (False,)
     lead_matters = problem.scenario.search.third_objective == "lead_time"
     other_mits = [m for m in sp.mitigations if m != "via_in_pad"]
@@ -200,6 +230,8 @@ def enumerate_all(space: Space, limit: int = 2_000_000) -> Candidates:
     """Every stackup of a small space (for brute-force checks); refuses large spaces."""
     if space.size > limit:
         raise ValueError(f"space of {space.size} stackups is too large to enumerate")
+    if space.constructions:
+        return construction_candidates(space)
     parts = []
     for ai, a in enumerate(space.arrangements):
         ranges: list[Sequence[int]] = [range(n) for n in space.gene_options(a)]

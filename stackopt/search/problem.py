@@ -100,7 +100,9 @@ class Problem:
             self.scenario,
             dielectric_options(self.table, self.scenario.space.max_plies),
             n_materials=len(items), material_names=tuple(i.id for i in items),
-            max_layers=self.table.max_layers, min_drill=self.table.capabilities.min_drill)
+            max_layers=self.table.max_layers, min_drill=self.table.capabilities.min_drill,
+            constructions=(self.table.constructions
+                           if self.scenario.space.constructions == "standard" else None))
 
     @cached_property
     def order(self) -> BoardOrder:

@@ -18,6 +18,8 @@ from functools import cached_property
 
 import numpy as np
 
+from stackopt.errors import InputError
+from stackopt.model.construction import Construction, parse_entry, slot_kinds
 from stackopt.model.scenario import MITIGATIONS, Scenario
 
 __all__ = ["Arrangement", "DielectricOptions", "Candidates", "Geometry", "Space", "arrangements"]
@@ -55,10 +57,7 @@ class Arrangement:
     @property
     def slot_kinds(self) -> tuple[str, ...]:
         """'prepreg' or 'core' for each dielectric slot, top to bottom."""
-        n = self.n_layers
-        if n == 2:
-            return ("core",)
-        return tuple("prepreg" if i % 2 == 0 else "core" for i in range(n - 1))
+        return slot_kinds(self.n_layers)
 
     @property
     def ground(self) -> int:
@@ -175,20 +174,28 @@ class Space:
     mitigations: tuple[str, ...]
     n_materials: int
     material_names: tuple[str, ...]
+    #: The fab's standard constructions the search is restricted to, as (name, layers,
+    #: option index per slot); empty: every catalogue material in every slot.
+    constructions: tuple[tuple[str, int, tuple[int, ...]], ...] = ()
 
     @classmethod
     def build(cls, scenario: Scenario, catalogue: dict[str, DielectricOptions],
               n_materials: int, material_names: tuple[str, ...], max_layers: int,
-              min_drill: float) -> Space:
-        """The scenario's space limited by the fab (layer count, drill)."""
+              min_drill: float, constructions: tuple[Construction, ...] | None = None
+              ) -> Space:
+        """The scenario's space limited by the fab (layer count, drill); with
+        ``constructions``, only those builds."""
         sp = scenario.space
         counts = sorted({n for n in sp.layers if n <= max_layers})
         drills = tuple(d for d in sp.drills if d >= min_drill * (1 - 1e-9))
         arrs = tuple(a for n in counts for a in arrangements(n, sp.symmetric)
                      if all(len(catalogue.get(k, ())) for k in a.slot_kinds))
         mits = tuple(m for m in MITIGATIONS if m in sp.mitigations)
+        builds = _resolve(constructions or (), catalogue, material_names, counts)
+        if constructions is not None:
+            arrs = tuple(a for a in arrs if any(b[1] == a.n_layers for b in builds))
         return cls(arrs, catalogue, tuple(sp.copper), drills, tuple(sp.vias_per_ground),
-                   mits, n_materials, material_names)
+                   mits, n_materials, material_names, builds)
 
     @cached_property
     def n_slots(self) -> int:
@@ -206,7 +213,10 @@ class Space:
 
     def arrangement_size(self, a: Arrangement) -> int:
         """Stackups in the space with arrangement ``a`` (all other choices included)."""
-        n = int(np.prod(self.gene_options(a), dtype=np.float64))
+        if self.constructions:
+            n = sum(1 for b in self.constructions if b[1] == a.n_layers)
+        else:
+            n = int(np.prod(self.gene_options(a), dtype=np.float64))
         return n * len(self.copper) * len(self.drills) * len(self.vias) * 2 ** len(
             self.mitigations)
 
@@ -275,6 +285,30 @@ class Space:
                 "copper_m": self.copper[int(c.copper[i])],
                 "drill_m": self.drills[int(c.drill[i])], "vias": self.vias[int(c.vias[i])],
                 **{m: bool(c.mit[i, k]) for k, m in enumerate(self.mitigations)}}
+
+
+def _resolve(constructions, catalogue: dict[str, DielectricOptions],
+             material_names: tuple[str, ...], counts: list[int]
+             ) -> tuple[tuple[str, int, tuple[int, ...]], ...]:
+    """Standard constructions as slot option indices (those with an allowed layer count)."""
+    out = []
+    for c in constructions:
+        if c.layers not in counts:
+            continue
+        idx = []
+        for entry, kind in zip(c.dielectrics, slot_kinds(c.layers), strict=True):
+            mid, plies = parse_entry(entry)
+            o = catalogue[kind]
+            hit = np.flatnonzero((o.material == material_names.index(mid)) & (o.count == plies))
+            if not len(hit):
+                raise InputError(
+                    f"construction {c.name!r} uses {entry!r}, which the search cannot build "
+                    "(more plies than space.max_plies, or thinner than the fab's minimum "
+                    "dielectric)", key="space.constructions",
+                    fix="raise space.max_plies or correct the construction in the cost table")
+            idx.append(int(hit[0]))
+        out.append((c.name, c.layers, tuple(idx)))
+    return tuple(out)
 
 
 def _gene_bounds(space: Space) -> tuple[np.ndarray, np.ndarray]:
