@@ -51,6 +51,9 @@ def run(args: argparse.Namespace) -> int:
         print(f"line  {ln.name}: {ln.type} {fq(ln.impedance, 'impedance')}{mw}")
     w = sc.space.thickness
     print("space  layers " + ", ".join(str(a.n_layers) + " " + a.name for a in sp.arrangements))
+    if sp.constructions:
+        print(f"       only the fab's standard constructions: "
+              f"{', '.join(b[0] for b in sp.constructions)}")
     print(f"       {len(sp.options['prepreg'])} prepreg openings, {len(sp.options['core'])} "
           f"cores; copper {', '.join(fq(x, 'length') for x in sp.copper)}; drills "
           f"{', '.join(fq(x, 'length') for x in sp.drills)}; vias per ground "
