@@ -1,0 +1,1 @@
+"""Reference implementations used only by the tests (not part of stackopt)."""
