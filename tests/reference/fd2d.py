@@ -261,7 +261,7 @@ def stripline_box(w, b, er, t=0.0, offset=0.0, wall=4.0) -> Box:
     x_max = w / 2 + wall * b
     return Box(x_max=x_max, y_max=b, conductors=(Rect(0.0, w / 2, yc - t / 2, yc + t / 2),),
                dielectrics=(Rect(0.0, x_max, 0.0, b, er),), copies=2,
-               grid=_grid(min(w, b / 2 - abs(offset) - t / 2), b / 10))
+               grid=_grid(min(w, b / 2 - abs(offset) - t / 2), b / 20))
 
 
 def cpwg_box(w, gap, h, er, t=0.0, wall=40.0) -> Box:
@@ -297,4 +297,4 @@ def coupled_stripline_box(w, s, b, er, t=0.0, mode="even", wall=4.0) -> Box:
     return Box(x_max=x_max, y_max=b,
                conductors=(Rect(s / 2, s / 2 + w, b / 2 - t / 2, b / 2 + t / 2),),
                dielectrics=(Rect(0.0, x_max, 0.0, b, er),), left=_mode(mode),
-               grid=_grid(min(w, s, b / 2 - t / 2), b / 10))
+               grid=_grid(min(w, s, b / 2 - t / 2), b / 20))
