@@ -1,8 +1,9 @@
 """(candidate x frequency) solves per second for a 9-element ladder, 5 ground connections.
 
 Run by hand on one core:  python benchmarks/bench_circuit.py
-Compares, in one run, the ABCD ladder fast path, the batched nodal analysis and a
-per-candidate Python loop around the nodal analysis. Quote the output in
+Compares, in one run, the ABCD ladder fast path, the batched nodal analysis (reduced to
+the ground terminals, the default, and whole matrices, ``reduce=False``, the path before
+the reduction) and a per-candidate Python loop around ``solve()``. Quote the output in
 docs/performance.md with the machine.
 """
 
@@ -52,8 +53,14 @@ def _batch(n):
                                  via_in_pad=rng.random(n) < 0.5, copper=35e-6)
 
 
-def run(nf: int) -> tuple[list[tuple[str, float]], float]:
-    """Rates (points/s) for one frequency-grid size; and ladder-vs-MNA agreement."""
+def _disagreement(s, ref):
+    """Largest relative difference in |S| and in phase [rad]."""
+    return (float(np.max(np.abs(np.abs(s) - np.abs(ref)) / np.abs(ref))),
+            float(np.max(np.abs(np.angle(s / ref)))))
+
+
+def run(nf: int) -> tuple[list[tuple[str, float]], dict[str, object]]:
+    """Rates (points/s) for one frequency-grid size; and the paths' agreement."""
     circuit, n = _circuit(), POINTS // nf
     batch, freqs = _batch(n), np.geomspace(10e6, 3e9, nf)
     points = n * nf
@@ -65,8 +72,12 @@ def run(nf: int) -> tuple[list[tuple[str, float]], float]:
     rows.append(("ladder ABCD kernel (uncoupled grounds)", points / t))
     t, s_mna0 = _best(lambda: mna_s(circuit, freqs, lg_self))
     rows.append(("nodal analysis kernel, same uncoupled case", points / t))
-    t, _ = _best(lambda: mna_s(circuit, freqs, lg_coupled))
+    t, _ = _best(lambda: mna_s(circuit, freqs, lg_self, reduce=False))
+    rows.append(("  same, whole matrices (reduce=False)", points / t))
+    t, s_red = _best(lambda: mna_s(circuit, freqs, lg_coupled))
     rows.append(("nodal analysis kernel, coupled grounds", points / t))
+    t, s_whole = _best(lambda: mna_s(circuit, freqs, lg_coupled, reduce=False))
+    rows.append(("  same, whole matrices (reduce=False)", points / t))
     t, _ = _best(lambda: solve(circuit, freqs, batch, mutual=False))
     rows.append(("solve() uncoupled: grounds + ladder", points / t))
     t, _ = _best(lambda: solve(circuit, freqs, batch))
@@ -75,7 +86,8 @@ def run(nf: int) -> tuple[list[tuple[str, float]], float]:
     t, _ = _best(lambda: [solve(circuit, freqs, sub.take([i])) for i in range(LOOP_N)],
                  repeat=1)
     rows.append(("per-candidate Python loop around solve() coupled", LOOP_N * nf / t))
-    return rows, float(np.max(np.abs(s_lad - s_mna0)))
+    return rows, {"ladder": float(np.max(np.abs(s_lad - s_mna0))),
+                  "reduced": _disagreement(s_red, s_whole)}
 
 
 def main() -> None:
@@ -91,8 +103,10 @@ def main() -> None:
     for nf in GRIDS:
         rows, agree = run(nf)
         loop = rows[-1][1]
+        d_mag, d_phase = agree["reduced"]
         print(f"F = {nf} frequencies, N = {POINTS // nf} candidates "
-              f"(ladder vs nodal analysis: max |dS| = {agree:.1e})")
+              f"(ladder vs nodal analysis: max |dS| = {agree['ladder']:.1e}; reduced vs "
+              f"whole matrices: {d_mag:.1e} relative in |S|, {d_phase:.1e} rad)")
         for name, rate in rows:
             print(f"  {name:<50s} {rate:12,.0f} /s  {rate / loop:7.1f}x loop")
 

@@ -17,7 +17,13 @@ couplings and :math:`L_g` the ground-terminal matrix
 :math:`Z_0`; port ``p`` is driven by a Norton source :math:`2/Z_0` (incident wave 1 V),
 so :math:`S_{pp} = V_p - 1` and :math:`S_{qp} = V_q` (Ho, Ruehli & Brennan, "The modified
 nodal approach to network analysis", IEEE Trans. Circuits Syst. 22(6), 504–509, 1975).
-One ``numpy.linalg.solve`` over stacked (candidate × frequency) matrices, in chunks.
+Only the ground-terminal block depends on the candidate. For a batch of at least
+:data:`MIN_REDUCE` candidates each frequency's fixed network is therefore reduced once to
+its G ground terminals and two ports (:func:`_ports`), leaving one G x G system per
+candidate and frequency, solved by vectorized elimination
+(:func:`stackopt.circuit.smallsolve.schur_small`); frequencies where that reduction is
+ill-conditioned, and small batches, solve every whole matrix with one
+``numpy.linalg.solve`` over stacked (candidate × frequency) matrices. Both in chunks.
 """
 
 from __future__ import annotations
@@ -29,12 +35,23 @@ import numpy as np
 from stackopt.circuit.compile import CompiledCircuit
 from stackopt.circuit.grounds import GroundBatch, ground_inductance_matrix
 from stackopt.circuit.ladder import ladder_s
+from stackopt.circuit.smallsolve import schur_small
 from stackopt.errors import InputError
 
-__all__ = ["solve", "mna_s", "CHUNK"]
+__all__ = ["solve", "mna_s", "CHUNK", "SMALL_CHUNK", "MIN_REDUCE", "COND_LIMIT"]
 
 #: Matrices per linear-solve call (bounds memory: CHUNK × n² × 16 bytes).
 CHUNK = 16384
+#: (candidate × frequency) systems per chunk of the reduced solve (fastest in
+#: benchmarks/bench_circuit.py; bounds memory: SMALL_CHUNK × (G + 2)² × 16 bytes).
+SMALL_CHUNK = 8192
+#: Smallest batch reduced to the ground terminals (below it the per-frequency reduction
+#: costs more than it saves).
+MIN_REDUCE = 16
+#: Largest (equilibrated, 1-norm) condition number of a frequency's fixed network (ground
+#: connections shorted) that is reduced to the ground terminals; above it that frequency
+#: is solved whole.
+COND_LIMIT = 1e6
 
 Method = Literal["auto", "mna", "ladder"]
 
@@ -47,16 +64,14 @@ def _check_freqs(freqs: np.ndarray) -> np.ndarray:
     return f
 
 
-def mna_s(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray | None) -> np.ndarray:
-    """S-parameters (N, F, 2, 2) by nodal analysis; ``lg`` (N, G, G) [H] or None (ideal)."""
-    c = compiled
-    f = _check_freqs(freqs)
+def _assemble(c: CompiledCircuit, f: np.ndarray, grounded: bool
+              ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Fixed part (F, n, n) of the matrix, right-hand sides (n, 2), terminal unknowns (G,)."""
     nf, k = len(f), len(c.nodes)
     jw = 2j * np.pi * f
-    grounded = np.zeros(c.n_elements, dtype=bool)
-    if lg is not None:
-        grounded[c.terminal_element] = True
-    current = c.zero | grounded | np.any(c.mutual != 0, axis=1)
+    current = c.zero | np.any(c.mutual != 0, axis=1)
+    if grounded:
+        current[c.terminal_element] = True
     cb = np.flatnonzero(current)
     sb = np.flatnonzero(~current)
     n = k + len(cb)
@@ -78,30 +93,131 @@ def mna_s(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray | None) -
         base[:, k + j, k + j] = -ze[:, e]
     zsub = np.ix_(cb, cb)
     base[:, k:, k:] -= jw[:, None, None] * c.mutual[zsub][None]
-    nb = 1 if lg is None else lg.shape[0]
-    lemb = np.zeros((nb, len(cb), len(cb)))
-    if lg is not None and c.n_terminals:
-        pos = np.searchsorted(cb, c.terminal_element)
-        lemb[:, pos[:, None], pos[None, :]] = lg
     rhs = np.zeros((n, 2), dtype=complex)
     for col, p in enumerate(c.ports):
         rhs[p, col] += 2.0 / c.z0
+    term = k + np.searchsorted(cb, c.terminal_element) if grounded else np.zeros(0, int)
+    return base, rhs, term
+
+
+def _conditioned(m: np.ndarray) -> np.ndarray:
+    """Per matrix: 1-norm condition number after symmetric row/column equilibration
+    (each row and column divided by the square root of its row's largest modulus)
+    below :data:`COND_LIMIT`; False for singular matrices."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        s = 1.0 / np.sqrt(np.max(np.abs(m), axis=-1))
+        return np.linalg.cond(s[..., :, None] * m * s[..., None, :], 1) < COND_LIMIT
+
+
+def _singular() -> InputError:
+    return InputError("the circuit matrix is singular at some frequency: an ideal L-C loop "
+                      "resonating exactly on a grid point or a loop of zero-impedance "
+                      "parts", key="circuit.elements",
+                      fix="add a small 'esr' to one element or shift the grid")
+
+
+def _full(base: np.ndarray, rhs: np.ndarray, term: np.ndarray, jw: np.ndarray,
+          lg: np.ndarray | None, ports: list[int]) -> np.ndarray:
+    """Port voltages (N, F, 2, 2): one LAPACK solve of every whole matrix."""
+    nf = base.shape[0]
+    nb = 1 if lg is None else lg.shape[0]
     out = np.empty((nb, nf, 2, 2), dtype=complex)
     step = max(1, CHUNK // nf)
     for i0 in range(0, nb, step):  # chunks of candidates (memory bound, not per candidate)
         sl = slice(i0, i0 + step)
-        mat = base[None].repeat(len(lemb[sl]), axis=0)
-        mat[:, :, k:, k:] -= jw[None, :, None, None] * lemb[sl, None]
+        mat = base[None].repeat(len(range(nb)[sl]), axis=0)
+        if lg is not None and len(term):
+            mat[:, :, term[:, None], term[None, :]] -= jw[None, :, None, None] * lg[sl, None]
         try:
             x = np.linalg.solve(mat, np.broadcast_to(rhs, mat.shape[:-1] + (2,)))
         except np.linalg.LinAlgError:
-            raise InputError("the circuit matrix is singular at some frequency: an ideal "
-                             "L-C loop resonating exactly on a grid point or a loop of "
-                             "zero-impedance parts", key="circuit.elements",
-                             fix="add a small 'esr' to one element or shift the grid"
-                             ) from None
-        out[sl, :, :, 0] = x[..., list(c.ports), 0]
-        out[sl, :, :, 1] = x[..., list(c.ports), 1]
+            raise _singular() from None
+        out[sl] = x[..., ports, :]
+    return out
+
+
+def _ports(base: np.ndarray, rhs: np.ndarray, term: np.ndarray, jw: np.ndarray,
+           ports: list[int]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    r"""Reduce the fixed network of each frequency to its G ground terminals and 2 ports.
+
+    The candidate's ground inductance enters only the terminal-current block,
+    :math:`M = M_0 - j\omega P L_g P^\mathsf{T}` (``P`` selects the terminal currents,
+    ``Q`` the port voltages, ``M_0`` is the network with the ground connections shorted).
+    By the Woodbury identity (Golub & Van Loan, *Matrix Computations*, 4th ed., Johns
+    Hopkins University Press, 2013, sec. 2.1.4; section number from memory) the terminal
+    currents and port voltages are
+
+    .. math:: (I - j\omega W L_g)\,u = U_0,\qquad V = A_0 + j\omega B L_g u
+
+    with :math:`W = P^\mathsf{T} M_0^{-1} P`, :math:`U_0 = P^\mathsf{T} M_0^{-1} R`,
+    :math:`A_0 = Q^\mathsf{T} M_0^{-1} R`, :math:`B = Q^\mathsf{T} M_0^{-1} P`, all from
+    one solve per frequency. Every term is a response of the shorted network itself, so a
+    deep stopband keeps its relative accuracy (no difference of near-equal large terms).
+    Returns ``(-jw [W; B] (F, G+2, G), U_0 (F, G, 2), A_0 (F, 2, 2))``.
+    """
+    unit = np.zeros(base.shape[1:2] + term.shape)
+    unit[term, np.arange(len(term))] = 1.0
+    cols = np.concatenate([unit, rhs], axis=1)
+    x = np.linalg.solve(base, np.broadcast_to(cols, base.shape[:2] + cols.shape[1:]))
+    g = len(term)
+    rows = np.concatenate([term, ports])
+    return -jw[:, None, None] * x[:, rows, :g], x[:, term, g:], x[:, ports, g:]
+
+
+def _reduced(base: np.ndarray, rhs: np.ndarray, term: np.ndarray, jw: np.ndarray,
+             lg: np.ndarray, ports: list[int]) -> np.ndarray:
+    """Port voltages (N, F, 2, 2) through :func:`_ports` and one G x G system each."""
+    wb, u0, a0 = _ports(base, rhs, term, jw, ports)
+    nb, g = lg.shape[:2]
+    nf = len(jw)
+    out = np.empty((nb, nf, 2, 2), dtype=complex)
+    step = max(1, SMALL_CHUNK // nf)
+    work = np.empty((g + 2) ** 2 * nf * min(step, nb), dtype=complex)
+    # -jw [W; B] as real (G + 2, G, 2F), re/im interleaved along F as in complex memory
+    wb = np.ascontiguousarray(wb.transpose(1, 2, 0)).view(float)
+    for i0 in range(0, nb, step):  # chunks of candidates (memory bound, not per candidate)
+        sl = slice(i0, i0 + step)
+        lgt = np.ascontiguousarray(lg[sl].transpose(2, 0, 1))  # (G, n, G): column t of L_g
+        nc = lgt.shape[1]
+        # bordered systems [[I - jw W L_g, U_0], [-jw B L_g, A_0]], batch (n, F) last
+        a = work[:(g + 2) ** 2 * nc * nf].reshape(g + 2, g + 2, nc, nf)
+        for t in range(g):  # real GEMMs straight into the complex entries
+            np.matmul(lgt[t], wb, out=a[:, t].view(float))
+        for t in range(g):
+            a[t, t] += 1.0
+        a[:g, g:] = u0.transpose(1, 2, 0)[:, :, None, :]
+        a[g:, g:] = a0.transpose(1, 2, 0)[:, :, None, :]
+        try:
+            v = schur_small(a.reshape(g + 2, g + 2, -1), g).reshape(2, 2, nc, nf)
+        except np.linalg.LinAlgError:
+            raise _singular() from None
+        out[sl] = v.transpose(2, 3, 0, 1)
+    return out
+
+
+def mna_s(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray | None, *,
+          reduce: bool = True) -> np.ndarray:
+    """S-parameters (N, F, 2, 2) by nodal analysis; ``lg`` (N, G, G) [H] or None (ideal).
+
+    ``reduce`` (default) reduces, per frequency, the fixed network to its ground
+    terminals (for :data:`MIN_REDUCE` candidates or more, at frequencies where that is well
+    conditioned) and then solves one G x G system per candidate and frequency;
+    ``reduce=False`` solves every whole matrix (the reference).
+    """
+    c = compiled
+    f = _check_freqs(freqs)
+    jw = 2j * np.pi * f
+    base, rhs, term = _assemble(c, f, lg is not None)
+    ports = list(c.ports)
+    if lg is None or not reduce or lg.shape[0] < MIN_REDUCE:
+        out = _full(base, rhs, term, jw, lg, ports)
+    else:
+        ok = _conditioned(base)
+        out = np.empty((lg.shape[0], len(f), 2, 2), dtype=complex)
+        if np.any(ok):
+            out[:, ok] = _reduced(base[ok], rhs, term, jw[ok], lg, ports)
+        if not np.all(ok):
+            out[:, ~ok] = _full(base[~ok], rhs, term, jw[~ok], lg, ports)
     out[..., 0, 0] -= 1.0
     out[..., 1, 1] -= 1.0
     return out
