@@ -7,7 +7,7 @@ termination on an explicit evaluation budget; seeded through ``minimize(seed=...
 Two choices were measured on the demo fab's whole space (benchmarks/bench_search.py): a
 survival that keeps an equal share of the population per layer count (two-layer boards
 need several genes right at once and were otherwise crowded out), and a wide polynomial
-mutation (eta 5 on 30 % of the genes: tail dielectrics only move cost, so the search must
+mutation (eta 5 on half of the genes: tail dielectrics only move cost, so the search must
 roam them). Every board evaluated is kept in an archive, so the reported front is
 non-dominated among everything evaluated.
 """
@@ -151,7 +151,8 @@ def _board_key(space):
 
 
 def run_nsga2(problem: Problem, budget: int, seed: int, pop_size: int = 100,
-              on_eval: Callable[[int], None] | None = None) -> Archive:
+              on_eval: Callable[[int], None] | None = None, *, mutation_eta: float = 5.0,
+              mutation_prob: float = 0.5) -> Archive:
     """Run NSGA-II for ``budget`` evaluations; return the archive of boards evaluated."""
     space = problem.space
     # the constraint count is fixed by the problem: evaluate one board to learn it
@@ -163,7 +164,8 @@ def run_nsga2(problem: Problem, budget: int, seed: int, pop_size: int = 100,
         pop_size=pop_size,
         sampling=_Stratified(space),
         crossover=SBX(prob=0.9, eta=15, vtype=float, repair=RoundingRepair()),
-        mutation=PM(eta=5, prob_var=0.3, vtype=float, repair=RoundingRepair()),
+        mutation=PM(eta=mutation_eta, prob_var=mutation_prob, vtype=float,
+                    repair=RoundingRepair()),
         survival=_LayerNiches(space),
         eliminate_duplicates=DefaultDuplicateElimination(func=_board_key(space)),
     )

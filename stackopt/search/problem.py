@@ -24,6 +24,8 @@ from stackopt.search.space import Candidates, DielectricOptions, Geometry, Space
 
 __all__ = ["Problem", "Evaluation", "dielectric_options"]
 
+#: Phenotypes solved per circuit call (bounds memory; not a loop over candidates).
+PHENOTYPE_CHUNK = 4096
 #: Width range searched when synthesizing controlled-impedance traces, m.
 WIDTH_RANGE = (20e-6, 10e-3)
 
@@ -174,10 +176,15 @@ class Problem:
         ph = self.phenotype(g)
         _, first, inv = np.unique(ph, axis=0, return_index=True, return_inverse=True)
         inv = inv.reshape(-1)
-        sub = self.ground_batch(g).take(first)
-        s = solve(self.compiled, self.freqs, sub, model)
-        lmat = ground_inductance_matrix(self.compiled, sub, model)
-        lsum = np.trace(lmat, axis1=-2, axis2=-1) if lmat.shape[-1] else np.zeros(len(first))
+        gb = self.ground_batch(g)
+        s = np.empty((len(first), len(self.freqs), 2, 2), dtype=complex)
+        lsum = np.zeros(len(first))
+        for i0 in range(0, len(first), PHENOTYPE_CHUNK):  # chunks bound the memory
+            sub = gb.take(first[i0:i0 + PHENOTYPE_CHUNK])
+            s[i0:i0 + PHENOTYPE_CHUNK] = solve(self.compiled, self.freqs, sub, model)
+            lmat = ground_inductance_matrix(self.compiled, sub, model)
+            if lmat.shape[-1]:
+                lsum[i0:i0 + PHENOTYPE_CHUNK] = np.trace(lmat, axis1=-2, axis2=-1)
         return s[inv], lsum[inv]
 
     def attenuation(self, att_f: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
