@@ -33,7 +33,7 @@ class Inputs:
 def load_inputs(scenario: str | None, costs: str | None) -> Inputs:
     """Scenario and cost table from the command line (built-in demo when none given)."""
     from stackopt.inputs.costtable import load_cost_table
-    from stackopt.inputs.scenario import demo_paths, load_scenario
+    from stackopt.inputs.scenario import demo_paths, load_scenario, scenario_cost_table_path
 
     demo = scenario is None
     if scenario is None:
@@ -41,19 +41,9 @@ def load_inputs(scenario: str | None, costs: str | None) -> Inputs:
     else:
         s_path, demo_costs = Path(scenario), None
     sc = load_scenario(s_path)
-    if costs is not None:
-        t_path = Path(costs)
-    elif sc.cost_table:
-        t_path = Path(sc.cost_table)
-        if not t_path.is_absolute():
-            t_path = s_path.parent / t_path
-        if not t_path.exists():
-            raise InputError(f"cost table {sc.cost_table!r} not found (looked at {t_path})",
-                             file=s_path, key="cost_table",
-                             fix="give a path relative to the scenario file, or --costs FILE")
-    elif demo_costs is not None:
-        t_path = demo_costs
-    else:
+    t_path = (Path(costs) if costs is not None
+              else scenario_cost_table_path(sc, s_path) or demo_costs)
+    if t_path is None:
         raise InputError("no cost table", file=s_path, key="cost_table",
                          fix="name one in the scenario ('cost_table: fab.yaml') or pass "
                          "--costs FILE")
@@ -64,11 +54,6 @@ def safe_dirname(name: str) -> str:
     """A folder name from a scenario name (letters, digits, - _ . only)."""
     s = re.sub(r"[^A-Za-z0-9._-]+", "-", name).strip("-.")
     return s[:80] or "scenario"
-
-
-def money(x: float | None, currency: str) -> str:
-    """``1.96 EUR``; ``-`` for missing."""
-    return "-" if x is None else f"{x:,.2f} {currency}"
 
 
 def table(rows: list[list[str]], header: list[str]) -> str:

@@ -6,7 +6,8 @@ import argparse
 import json
 from typing import Any
 
-from stackopt.cli.common import load_inputs, money, table
+from stackopt.cli.common import load_inputs, table
+from stackopt.outputs.facts import money
 from stackopt.units import format_quantity as fq
 
 

@@ -6,8 +6,9 @@ import argparse
 import sys
 from pathlib import Path
 
-from stackopt.cli.common import load_inputs, money, safe_dirname, table
+from stackopt.cli.common import load_inputs, safe_dirname, table
 from stackopt.cli.options import count
+from stackopt.outputs.facts import money
 
 PICK_LABELS = {
     "cheapest_meeting_requirements": "cheapest meeting requirements",

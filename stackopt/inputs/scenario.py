@@ -12,7 +12,7 @@ from stackopt.inputs.yamlio import load_yaml
 from stackopt.model.costtable import CostTable
 from stackopt.model.scenario import Scenario
 
-__all__ = ["load_scenario", "scenario_cost_table", "demo_paths"]
+__all__ = ["load_scenario", "scenario_cost_table", "scenario_cost_table_path", "demo_paths"]
 
 
 def load_scenario(path: str | Path) -> Scenario:
@@ -23,10 +23,9 @@ def load_scenario(path: str | Path) -> Scenario:
     return scenario
 
 
-def scenario_cost_table(scenario: Scenario, scenario_path: str | Path) -> CostTable | None:
-    """The cost table the scenario names (relative to the scenario file), or ``None``."""
-    from stackopt.inputs.costtable import load_cost_table
-
+def scenario_cost_table_path(scenario: Scenario, scenario_path: str | Path) -> Path | None:
+    """Path of the cost table the scenario names (relative to the scenario file), or
+    ``None``; an error naming the scenario's key if that file does not exist."""
     if not scenario.cost_table:
         return None
     p = Path(scenario.cost_table)
@@ -36,7 +35,15 @@ def scenario_cost_table(scenario: Scenario, scenario_path: str | Path) -> CostTa
         raise InputError(f"cost table {scenario.cost_table!r} not found (looked at {p})",
                          file=scenario_path, key="cost_table",
                          fix="give a path relative to the scenario file, or pass --costs")
-    return load_cost_table(p)
+    return p
+
+
+def scenario_cost_table(scenario: Scenario, scenario_path: str | Path) -> CostTable | None:
+    """The cost table the scenario names (relative to the scenario file), or ``None``."""
+    from stackopt.inputs.costtable import load_cost_table
+
+    p = scenario_cost_table_path(scenario, scenario_path)
+    return None if p is None else load_cost_table(p)
 
 
 def demo_paths() -> tuple[Path, Path]:
