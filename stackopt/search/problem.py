@@ -214,23 +214,26 @@ class Problem:
         return np.column_stack(cols)
 
     def line_widths(self, g: Geometry) -> np.ndarray:
-        """Width of every controlled-impedance line on each candidate (NaN: unreachable)."""
+        """Width of every controlled-impedance line on each candidate (NaN: unreachable),
+        synthesized once per distinct (dielectric height, Dk, copper, line kind)."""
         lines = self.scenario.lines
         n = len(g.depth)
         out = np.full((n, len(lines)), np.nan)
         cop = g.flags.get("coplanar", np.zeros(n, dtype=bool))
-        for j, ln in enumerate(lines):
+        for j, ln in enumerate(lines):  # a handful of lines
             gap = ln.gap if ln.gap is not None else self.pour_gap
             use_cpw = cop | (ln.type == "cpwg")
-            w_ms, ok_ms = synthesize_width(ln.impedance, g.ref_height, g.ref_er, g.copper,
-                                           kind="microstrip", w_min=WIDTH_RANGE[0],
-                                           w_max=WIDTH_RANGE[1])
-            w_cp, ok_cp = synthesize_width(ln.impedance, g.ref_height, g.ref_er, g.copper,
-                                           kind="cpwg", w_min=WIDTH_RANGE[0],
-                                           w_max=WIDTH_RANGE[1], gap=gap)
-            w = np.where(use_cpw, w_cp, w_ms)
-            ok = np.where(use_cpw, ok_cp, ok_ms)
-            out[:, j] = np.where(ok, w, np.nan)
+            key = np.column_stack([g.ref_height, g.ref_er, g.copper, use_cpw])
+            uniq, inv = np.unique(key, axis=0, return_inverse=True)
+            h, er, t, cpw = uniq[:, 0], uniq[:, 1], uniq[:, 2], uniq[:, 3] > 0
+            w = np.full(len(uniq), np.nan)
+            for kind, rows, kw in (("microstrip", ~cpw, {}), ("cpwg", cpw, {"gap": gap})):
+                if rows.any():
+                    wk, ok = synthesize_width(ln.impedance, h[rows], er[rows], t[rows],
+                                              kind=kind, w_min=WIDTH_RANGE[0],
+                                              w_max=WIDTH_RANGE[1], **kw)
+                    w[rows] = np.where(ok, wk, np.nan)
+            out[:, j] = w[inv.reshape(-1)]
         return out
 
     # ---- everything ------------------------------------------------------------------
