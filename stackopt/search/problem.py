@@ -227,12 +227,15 @@ class Problem:
             uniq, inv = np.unique(key, axis=0, return_inverse=True)
             h, er, t, cpw = uniq[:, 0], uniq[:, 1], uniq[:, 2], uniq[:, 3] > 0
             w = np.full(len(uniq), np.nan)
-            for kind, rows, kw in (("microstrip", ~cpw, {}), ("cpwg", cpw, {"gap": gap})):
-                if rows.any():
-                    wk, ok = synthesize_width(ln.impedance, h[rows], er[rows], t[rows],
-                                              kind=kind, w_min=WIDTH_RANGE[0],
-                                              w_max=WIDTH_RANGE[1], **kw)
-                    w[rows] = np.where(ok, wk, np.nan)
+            if (~cpw).any():
+                wk, ok = synthesize_width(ln.impedance, h[~cpw], er[~cpw], t[~cpw],
+                                          kind="microstrip", w_min=WIDTH_RANGE[0],
+                                          w_max=WIDTH_RANGE[1])
+                w[~cpw] = np.where(ok, wk, np.nan)
+            if cpw.any():
+                wk, ok = synthesize_width(ln.impedance, h[cpw], er[cpw], t[cpw], kind="cpwg",
+                                          w_min=WIDTH_RANGE[0], w_max=WIDTH_RANGE[1], gap=gap)
+                w[cpw] = np.where(ok, wk, np.nan)
             out[:, j] = w[inv.reshape(-1)]
         return out
 
