@@ -189,3 +189,14 @@ def test_summary_contract():
     for layer in rec["stackup"]:
         assert {"kind", "material", "thickness_m"} <= set(layer)
         assert ("role" in layer) or ("er" in layer)
+
+
+@pytest.mark.parametrize("k", [2, 3, 4])
+def test_nondominated_matches_pairwise_definition(k):
+    # the definition of Pareto dominance (minimisation), checked pairwise
+    rng = np.random.default_rng(k)
+    for _ in range(50):
+        F = rng.integers(0, 5, (int(rng.integers(1, 40)), k)).astype(float)
+        ref = np.array([not (np.all(F <= F[i], 1) & np.any(F < F[i], 1)).any()
+                        for i in range(len(F))])
+        assert (nondominated(F) == ref).all()

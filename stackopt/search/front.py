@@ -11,7 +11,8 @@ def nondominated(F: np.ndarray) -> np.ndarray:
     """Boolean mask of the rows of ``F`` (N, k) that no other row dominates (minimising).
 
     Rows with equal objective vectors are all kept. Two objectives use a lexsort and a
-    running-minimum sweep (O(N log N)); more objectives compare pairwise in blocks.
+    running-minimum sweep (O(N log N)); more objectives compare each distinct row, in
+    lexicographic order, with the front found so far (O(N x front size)).
     """
     F = np.asarray(F, dtype=float)
     n = len(F)
@@ -35,14 +36,20 @@ def nondominated(F: np.ndarray) -> np.ndarray:
         mask = np.zeros(n, dtype=bool)
         mask[order] = keep_sorted
         return mask
-    keep = np.ones(n, dtype=bool)
-    for i in range(n):
-        if not keep[i]:
-            continue
-        dom = np.all(F <= F[i], axis=1) & np.any(F < F[i], axis=1)
-        if dom.any():
-            keep[i] = False
-    return keep
+    # More objectives: distinct rows in lexicographic order can only be dominated by an
+    # earlier row, and then by one already on the front, so each row is compared with the
+    # (small) front found so far instead of with every other row.
+    uniq, inv = np.unique(F, axis=0, return_inverse=True)  # sorted lexicographically
+    front: list[int] = []
+    on = np.zeros(len(uniq), dtype=bool)
+    for i in range(len(uniq)):  # the front, not the candidates, bounds each comparison
+        if front:
+            f = uniq[front]
+            if np.any(np.all(f <= uniq[i], axis=1) & np.any(f < uniq[i], axis=1)):
+                continue
+        front.append(i)
+        on[i] = True
+    return on[inv.reshape(-1)]
 
 
 def hypervolume(F: np.ndarray, ref: np.ndarray) -> float:
