@@ -3,13 +3,11 @@
 from __future__ import annotations
 
 import argparse
-import importlib
 import json
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from typing import Any
 
-#: Calculator modules; each defines ``register(subparsers)``.
-CALCULATORS = ("stackopt.cli.calc_via", "stackopt.cli.calc_line")
+from stackopt.cli.registry import CALCULATORS, help_of
 
 
 def calculator(compute: Callable[[argparse.Namespace], dict[str, Any]],
@@ -25,20 +23,15 @@ def calculator(compute: Callable[[argparse.Namespace], dict[str, Any]],
     return run
 
 
-def register(sub: argparse._SubParsersAction) -> None:
-    """Add ``calc`` and its calculators."""
-    p = sub.add_parser("calc", help="quick calculators: ground via inductance, line impedance",
+def register(sub: argparse._SubParsersAction, argv: Sequence[str] = ()) -> None:
+    """Add ``calc`` and its calculators (only the one ``argv`` names is imported)."""
+    p = sub.add_parser("calc", help=help_of("calc"),
                        description="Quick calculators. Human-readable by default, --json for "
                        "scripts.", epilog="example: stackopt calc via --depth 0.19mm "
                        "--drill 0.3mm --freq 800MHz")
     calc_sub = p.add_subparsers(dest="calculator", metavar="CALCULATOR",
                                 parser_class=type(p))
-    for name in CALCULATORS:
-        try:
-            mod = importlib.import_module(name)
-        except ModuleNotFoundError as exc:
-            if exc.name == name:
-                continue
-            raise
-        mod.register(calc_sub)
+    from stackopt.cli.main import register_lazily
+
+    register_lazily(calc_sub, CALCULATORS, argv)
     p.set_defaults(func=lambda args: (p.print_help(), 0)[1])

@@ -14,6 +14,7 @@ import numpy as np
 
 from stackopt.cli.calc import calculator
 from stackopt.cli.options import choice, quantity
+from stackopt.cli.registry import CALCULATORS, help_of
 from stackopt.errors import InputError
 from stackopt.physics.constants import C0
 from stackopt.physics.coplanar import cpwg
@@ -61,7 +62,7 @@ def _er(text: str) -> float:
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``line`` calculator to ``stackopt calc``."""
     p = sub.add_parser(
-        "line", help="trace impedance, or the width for a target impedance",
+        "line", help=help_of("line", CALCULATORS),
         description="Characteristic impedance of a microstrip, stripline or grounded "
         "coplanar trace from its width, or the width that gives a target impedance. "
         "Lengths take mm, um, mil, in or bare metres.",

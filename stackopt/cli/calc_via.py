@@ -15,6 +15,7 @@ import numpy as np
 
 from stackopt.cli.calc import calculator
 from stackopt.cli.options import choice, count, quantity
+from stackopt.cli.registry import CALCULATORS, help_of
 from stackopt.errors import InputError, ModelError
 from stackopt.physics.inductance import (
     GOLDFARB_PUCEL_FIT_RANGE,
@@ -42,7 +43,7 @@ plane). They differ by a factor of 2-8 for the same via; the table shows all of 
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``via`` calculator to ``stackopt calc``."""
     p = sub.add_parser(
-        "via", help="inductance of a ground via (or a row of vias) down to a plane",
+        "via", help=help_of("via", CALCULATORS),
         description="Inductance of a via from a surface pad down to a ground plane, for "
         "one via or several in a row, with every model's value beside the chosen one. "
         "Lengths take mm, um, mil, in or bare metres; frequencies Hz, kHz, MHz, GHz.",

@@ -5,12 +5,13 @@ from __future__ import annotations
 import argparse
 
 from stackopt.cli.common import load_inputs, table
+from stackopt.cli.registry import help_of
 from stackopt.units import format_quantity as fq
 
 
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``check`` command."""
-    p = sub.add_parser("check", help="validate a scenario (and cost table); show it in units",
+    p = sub.add_parser("check", help=help_of("check"),
                        description="Validate a scenario and its cost table and print what "
                        "stackopt understood, with units. Exit 0 if valid, 2 if not.",
                        epilog="example: stackopt check scenarios/harmonic_lowpass.yaml "

@@ -7,13 +7,14 @@ import json
 from typing import Any
 
 from stackopt.cli.common import load_inputs, table
+from stackopt.cli.registry import help_of
 from stackopt.outputs.facts import money
 from stackopt.units import format_quantity as fq
 
 
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``eval`` command."""
-    p = sub.add_parser("eval", help="score one stackup: inductance, attenuation, cost",
+    p = sub.add_parser("eval", help=help_of("eval"),
                        description="Score one stackup file (the format selected.yaml is "
                        "written in) against a scenario, with the itemised cost.",
                        epilog="example: stackopt eval scenarios/harmonic_lowpass.yaml "

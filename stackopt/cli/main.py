@@ -11,18 +11,14 @@ from __future__ import annotations
 
 import argparse
 import contextlib
-import importlib
 import os
 import sys
 import warnings
 from collections.abc import Sequence
 
 from stackopt import __version__
+from stackopt.cli.registry import COMMANDS, Command
 from stackopt.errors import InputError, StackoptError, StackoptWarning
-
-#: Sub-command modules; each defines ``register(subparsers)`` which sets ``func``.
-COMMANDS = ("stackopt.cli.calc", "stackopt.cli.optimize", "stackopt.cli.check",
-            "stackopt.cli.evaluate")
 
 
 class _Parser(argparse.ArgumentParser):
@@ -40,8 +36,29 @@ class _Parser(argparse.ArgumentParser):
                          fix=f"see '{self.prog} --help'")
 
 
-def build_parser() -> argparse.ArgumentParser:
-    """The full argument parser (sub-commands registered from :data:`COMMANDS`)."""
+def register_lazily(sub: argparse._SubParsersAction, table: dict[str, Command],
+                    argv: Sequence[str]) -> None:
+    """Register the commands of ``table``: the one ``argv`` names (its first word that is
+    not an option) from its module, with all its options; every other as a stub that only
+    carries its help line, so that nothing a command does not use is imported. A group
+    (``calc``) is handed the words after its name."""
+    import importlib
+
+    words = [a for a in argv if not a.startswith("-")]
+    selected = words[0] if words and words[0] in table else None
+    for name, cmd in table.items():
+        if name != selected:
+            sub.add_parser(name, help=cmd.help, add_help=False)
+        elif not cmd.group:
+            importlib.import_module(cmd.module).register(sub)
+        else:
+            rest = list(argv)[list(argv).index(name) + 1:]
+            importlib.import_module(cmd.module).register(sub, rest)
+
+
+def build_parser(argv: Sequence[str] = ()) -> argparse.ArgumentParser:
+    """The argument parser; of the sub-commands in :data:`COMMANDS` only the one named in
+    ``argv`` is imported and registered in full (pass every name to get them all)."""
     parser = _Parser(
         prog="stackopt",
         description="Choose a PCB stackup: ground inductance, circuit effect and cost, "
@@ -51,14 +68,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     parser.add_argument("--version", action="version", version=f"stackopt {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
-    for name in COMMANDS:
-        try:
-            mod = importlib.import_module(name)
-        except ModuleNotFoundError as exc:  # a command not built yet
-            if exc.name == name:
-                continue
-            raise
-        mod.register(sub)
+    register_lazily(sub, COMMANDS, argv)
     return parser
 
 
@@ -94,7 +104,7 @@ class _WarningPrinter:
 
 def _run(argv: list[str], debug: bool) -> int:
     try:
-        parser = build_parser()
+        parser = build_parser(argv)
         args = parser.parse_args(argv)
         if not getattr(args, "func", None):
             parser.print_help()

@@ -8,6 +8,7 @@ from pathlib import Path
 
 from stackopt.cli.common import load_inputs, safe_dirname, table
 from stackopt.cli.options import count
+from stackopt.cli.registry import help_of
 from stackopt.outputs.facts import money
 
 PICK_LABELS = {
@@ -21,7 +22,7 @@ PICK_LABELS = {
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``optimize`` command."""
     p = sub.add_parser(
-        "optimize", help="search every stackup the fab can build; write the report",
+        "optimize", help=help_of("optimize"),
         description="Search the scenario's design space priced by the fab's cost table, "
         "show the cost / performance Pareto front and write the decision report.",
         epilog="examples:\n  stackopt optimize                       (built-in demo)\n"

@@ -1,0 +1,78 @@
+"""The command line imports only what the command it runs uses (start-up time).
+
+The calculators and ``--version`` must not pull in the libraries of the search and the
+report (pandas, matplotlib, pymoo, pydantic): each is checked in a fresh interpreter,
+since this test process has imported everything already.
+"""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import pytest
+
+HEAVY = ("pandas", "matplotlib", "pymoo", "pydantic")
+
+PROBE = """
+import json, sys
+from stackopt.cli.main import main
+try:
+    rc = main(sys.argv[1:])
+except SystemExit as exc:  # --version, --help
+    rc = exc.code
+print(json.dumps({"rc": rc, "mods": sorted({m.split('.')[0] for m in sys.modules})}),
+      file=sys.stderr)
+"""
+
+
+def _imported(*argv: str) -> tuple[int, set[str]]:
+    proc = subprocess.run([sys.executable, "-c", PROBE, *argv], capture_output=True,
+                          text=True, timeout=120)
+    last = proc.stderr.strip().splitlines()[-1]
+    out = json.loads(last)
+    return out["rc"], set(out["mods"])
+
+
+@pytest.mark.parametrize("argv", [
+    ("calc", "via", "--depth", "0.19mm", "--drill", "0.3mm", "--freq", "800MHz"),
+    ("calc", "via", "--depth", "0.19mm", "--drill", "0.3mm", "--json"),
+    ("--version",),
+    ("--help",),
+    ("calc", "--help"),
+])
+def test_light_commands_import_no_heavy_library(argv):
+    rc, mods = _imported(*argv)
+    assert rc == 0
+    assert not mods & set(HEAVY), sorted(mods & set(HEAVY))
+
+
+def test_check_does_not_import_plotting_or_search():
+    rc, mods = _imported("check", "scenarios/harmonic_lowpass.yaml")
+    assert rc == 0
+    assert not mods & {"matplotlib", "pymoo", "pandas"}
+
+
+def test_every_registered_command_still_has_its_options():
+    # each command registered in full answers --help with its own options
+    from stackopt.cli.main import build_parser
+    from stackopt.cli.registry import CALCULATORS, COMMANDS
+
+    for name in COMMANDS:
+        text = build_parser([name]).format_help()
+        assert name in text
+    for name in CALCULATORS:
+        parser = build_parser(["calc", name])
+        sub = next(a for a in parser._actions if a.dest == "command")
+        calc = sub.choices["calc"]
+        csub = next(a for a in calc._actions if a.dest == "calculator")
+        assert "--json" in csub.choices[name].format_help()
+
+
+def test_unknown_command_is_a_one_line_error(capsys):
+    from stackopt.cli.main import main
+
+    assert main(["optimise"]) == 2
+    err = capsys.readouterr().err
+    assert "invalid choice" in err and "optimize" in err and len(err.strip().splitlines()) == 1
