@@ -56,22 +56,35 @@ def render_all(result, extra_summary: dict | None = None) -> dict[str, bytes]:
     from stackopt.outputs.report import IMAGE_FILES, report_html, report_markdown
     from stackopt.search.ladder import mitigation_ladder
 
+    from stackopt.outputs.parallel import render
+
     ladder = mitigation_ladder(result)
     extra = {**(extra_summary or {}),
              "mitigation_ladder": ladder.to_summary() if ladder is not None else None}
+    # figures and the large CSV are independent: drawn on every free core (parallel.py)
+    def front() -> dict[str, bytes]:  # one figure, PNG first then SVG as in one process
+        fig = plot_front(result)
+        return {"pareto": figure_bytes(fig, "png"), "pareto.svg": figure_bytes(fig, "svg")}
+
+    jobs = {
+        "pareto": front,
+        "response": lambda: figure_bytes(plot_response(result), "png"),
+        "stackups": lambda: figure_bytes(plot_stackups(result), "png"),
+        "costs": lambda: figure_bytes(plot_costs(result), "png"),
+        "prepregs": lambda: figure_bytes(plot_prepregs(result), "png"),
+        "candidates.csv": lambda: candidates_csv(result).encode("utf-8"),
+    }
+    if ladder is not None:
+        jobs["mitigations"] = lambda: figure_bytes(plot_mitigations(ladder, result), "png")
+    done = render(jobs)  # name -> bytes (a job may give several files)
     out: dict[str, bytes] = {
         "summary.json": summary_json(result, extra).encode("utf-8"),
-        "candidates.csv": candidates_csv(result).encode("utf-8"),
+        "candidates.csv": done.pop("candidates.csv"),
         "front.csv": front_csv(result).encode("utf-8"),
+        "pareto.svg": done.pop("pareto.svg"),
     }
-    front = plot_front(result)
-    images = {"pareto": figure_bytes(front, "png")}
-    out["pareto.svg"] = figure_bytes(front, "svg")
-    for key, fn in (("response", plot_response), ("stackups", plot_stackups),
-                    ("costs", plot_costs), ("prepregs", plot_prepregs)):
-        images[key] = figure_bytes(fn(result), "png")
+    images = done
     if ladder is not None:
-        images["mitigations"] = figure_bytes(plot_mitigations(ladder, result), "png")
         out["mitigations.csv"] = mitigations_csv(ladder).encode("utf-8")
     out["report.html"] = report_html(result, images).encode("utf-8")
     out["report.md"] = report_markdown(result, IMAGE_FILES).encode("utf-8")

@@ -1,0 +1,40 @@
+"""Figures drawn on several cores are the same bytes as drawn in one process."""
+
+from __future__ import annotations
+
+import pytest
+
+from stackopt.outputs import parallel
+from tests.outputs_support import run
+
+
+def test_parallel_rendering_is_byte_identical_to_serial(monkeypatch):
+    from stackopt.outputs.bundle import render_all
+
+    result = run()
+    monkeypatch.setenv("STACKOPT_JOBS", "1")
+    serial = render_all(result)
+    monkeypatch.setenv("STACKOPT_JOBS", "2")
+    if parallel.workers(8) < 2:
+        pytest.skip("fork is not available here")
+    assert parallel.workers(8) == 2
+    par = render_all(result)
+    assert list(par) == list(serial)
+    assert [k for k in par if par[k] != serial[k]] == []
+
+
+def test_a_job_error_reaches_the_caller(monkeypatch):
+    monkeypatch.setenv("STACKOPT_JOBS", "2")
+
+    def bad() -> bytes:
+        raise ValueError("boom")
+
+    with pytest.raises(ValueError, match="boom"):
+        parallel.render({"a": lambda: b"x", "b": bad})
+
+
+def test_jobs_returning_several_files_are_merged_in_order(monkeypatch):
+    for n in ("1", "2"):
+        monkeypatch.setenv("STACKOPT_JOBS", n)
+        out = parallel.render({"a": lambda: {"a.png": b"1", "a.svg": b"2"}, "b": lambda: b"3"})
+        assert list(out.items()) == [("a.png", b"1"), ("a.svg", b"2"), ("b", b"3")]
