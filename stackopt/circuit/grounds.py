@@ -50,7 +50,12 @@ from stackopt.circuit.compile import CompiledCircuit
 from stackopt.errors import InputError
 from stackopt.physics.inductance import check_via_model
 from stackopt.physics.lines import pad_trace_inductance
-from stackopt.physics.parallel import parallel_via_inductance, row_positions, via_mutual_inductance
+from stackopt.physics.parallel import (
+    guard_coupling,
+    parallel_via_inductance,
+    row_positions,
+    via_mutual_inductance,
+)
 
 __all__ = ["GroundBatch", "ground_inductance_matrix", "DEFAULT_PITCH_DRILLS",
            "DEFAULT_POUR_GAP", "STITCH_VIAS"]
@@ -234,9 +239,12 @@ def ground_inductance_matrix(compiled: CompiledCircuit, batch: GroundBatch,
         s = np.hypot(diff[..., 0], diff[..., 1])  # (N, P, V, V)
         pair = mask[:, i, :, None] & mask[:, j, None, :]
         dd = 0.5 * (drill[:, i] + drill[:, j])[..., None, None]
-        m = via_mutual_inductance(h[..., None, None], np.maximum(s, dd), dd, model)
+        m = via_mutual_inductance(h[..., None, None], np.maximum(s, dd))
         mean = np.zeros((n, g, g))
         mean[:, i, j] = (m * pair).sum(axis=(-1, -2)) / pair.sum(axis=(-1, -2))
         mean[:, j, i] = mean[:, i, j]
+        # one representative row per shared via (the others repeat it by construction)
+        rep = ~(shared & (np.arange(g)[None, None, :] < np.arange(g)[None, :, None])).any(-1)
+        mean, _ = guard_coupling(self_l, np.where(shared, 0.0, mean), include=rep)
         out = np.where(shared | eye, out, mean)
     return np.where(eye, self_l[:, :, None], out)

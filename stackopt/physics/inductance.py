@@ -25,6 +25,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from stackopt.errors import ModelError, did_you_mean
 from stackopt.physics.constants import MU0_OVER_2PI
+from stackopt.physics.tube import tube_self_inductance
 
 __all__ = [
     "VIA_MODELS",
@@ -231,8 +232,14 @@ def via_rosa(h: ArrayLike, d: ArrayLike, dc: bool = False) -> _F:
 
     .. math::
 
-        L = \frac{\mu_0 h}{2\pi}\left[\mathrm{asinh}\frac{h}{r}
-            - \sqrt{1+\left(\frac{r}{h}\right)^2} + \frac{r}{h}\right]
+        L = L_{tube}(h, r) = \frac1\pi\int_0^\pi M_{fil}\!\left(h,
+            2r\sin\frac\varphi2\right)d\varphi
+
+    the thin-tube partial self-inductance
+    (:func:`stackopt.physics.tube.tube_self_inductance`), which keeps Rosa's and
+    Grover's filament mutual but averages it over the rim instead of placing the
+    filaments at the geometric mean distance; it holds for short vias too (the
+    closed form :func:`partial_self_inductance` is 8–21 % low for ``h/r`` 0.8–2.3).
 
     Parameters
     ----------
@@ -241,13 +248,16 @@ def via_rosa(h: ArrayLike, d: ArrayLike, dc: bool = False) -> _F:
     d : array_like
         Drill / barrel outer diameter [m], > 0.
     dc : bool, default False
-        Use the DC (uniform current, +1/4) form instead of surface current.
+        Use the DC (uniform current, solid wire) closed form
+        :func:`partial_self_inductance` with its +1/4 term instead.
 
     Returns
     -------
     ndarray
         Partial self-inductance [H] of the barrel alone; the plane's effect on the
-        return path is ignored (see :func:`via_image` for a model that includes it).
+        return path is ignored (see :func:`via_image` for a model that includes it), so
+        it is low against :func:`via_image` for the same via (by about a third for
+        ``h/r`` near 10).
 
     References
     ----------
@@ -255,7 +265,10 @@ def via_rosa(h: ArrayLike, d: ArrayLike, dc: bool = False) -> _F:
        1908; F. W. Grover, *Inductance Calculations*, Van Nostrand, 1946.
 
     """
-    return partial_self_inductance(h, 0.5 * np.asarray(d, dtype=float), dc=dc)
+    r = 0.5 * np.asarray(d, dtype=float)
+    if dc:
+        return partial_self_inductance(h, r, dc=True)
+    return tube_self_inductance(h, r)
 
 
 def via_image(h: ArrayLike, d: ArrayLike) -> _F:
@@ -263,11 +276,13 @@ def via_image(h: ArrayLike, d: ArrayLike) -> _F:
 
     .. math::
 
-        L = \tfrac12\, L_{self}(2h, r)
+        L = \tfrac12\, L_{tube}(2h, r)
 
     A conductor ending perpendicular on a perfectly conducting plane, together with its
     image, is one conductor of length ``2h`` carrying the same current; the real half
-    stores half of the energy.
+    stores half of the energy. :math:`L_{tube}` is the thin-tube partial
+    self-inductance (:func:`stackopt.physics.tube.tube_self_inductance`), accurate for
+    short vias too.
 
     Parameters
     ----------
@@ -290,8 +305,8 @@ def via_image(h: ArrayLike, d: ArrayLike) -> _F:
        1908.
 
     """
-    return 0.5 * partial_self_inductance(2.0 * np.asarray(h, dtype=float),
-                                         0.5 * np.asarray(d, dtype=float))
+    return 0.5 * tube_self_inductance(2.0 * np.asarray(h, dtype=float),
+                                      0.5 * np.asarray(d, dtype=float))
 
 
 _SELF = {"goldfarb-pucel": via_goldfarb_pucel, "johnson": via_johnson_graham,
