@@ -17,6 +17,7 @@ __all__ = [
     "UnitError",
     "ModelError",
     "OutputError",
+    "Interrupted",
     "StackoptWarning",
     "did_you_mean",
     "format_key_path",
@@ -173,3 +174,23 @@ class ModelError(InputError):
 
 class OutputError(OSError, StackoptError):
     """An output folder or file cannot be written (or would overwrite without --force)."""
+
+
+class Interrupted(KeyboardInterrupt):
+    """SIGINT, SIGTERM or SIGHUP arrived (the CLI turns each into this exception).
+
+    ``out`` is the output folder concerned (if any) and ``committed`` whether the new
+    result was already complete there when the signal came; the exit code is
+    128 + the signal number (130 for SIGINT, 143 for SIGTERM).
+    """
+
+    def __init__(self, signum: int) -> None:
+        super().__init__(signum)
+        self.signum = signum
+        self.out: Path | None = None
+        self.committed = False
+
+    @property
+    def exit_code(self) -> int:
+        """128 + the signal number, as shells report it."""
+        return 128 + self.signum

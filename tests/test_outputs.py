@@ -15,6 +15,7 @@ from outputs_support import DEMO, ROOT, renamed, run, second_run
 
 from stackopt.errors import OutputError
 from stackopt.outputs.bundle import FILES, render_all, write_all
+from stackopt.outputs.resultdir import MANIFEST
 from stackopt.outputs.exports import candidates_csv, selected_yaml, summary_json
 from stackopt.outputs.facts import selected_index
 from stackopt.outputs.report import report_html, report_markdown
@@ -37,7 +38,9 @@ PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG specification (ISO/IEC 15948), secti
 def test_every_file_written(demo_out):
     out, paths = demo_out
     assert [p.name for p in paths] == list(FILES)
-    assert sorted(os.listdir(out)) == sorted(FILES)  # no staging folder or temp file left
+    # no staging folder or temp file left; the manifest says what stackopt wrote
+    assert sorted(os.listdir(out)) == sorted([*FILES, MANIFEST])
+    assert not [p for p in os.listdir(out.parent) if ".stackopt-" in p]
     for p in paths:
         assert p.stat().st_size > 0
 
@@ -167,19 +170,16 @@ def test_refuses_overwrite_without_force(demo_result, tmp_path):
 
 
 def test_failure_leaves_no_file(demo_result, tmp_path, monkeypatch):
-    calls = {"n": 0}
-    real = os.replace
+    from stackopt.outputs import resultdir
 
-    def flaky(a, b):
-        calls["n"] += 1
-        if calls["n"] == 4:
-            raise OSError(28, "No space left on device")
-        return real(a, b)
+    def full(*a, **k):
+        raise OSError(28, "No space left on device")
 
-    monkeypatch.setattr(os, "replace", flaky)
-    with pytest.raises(OutputError, match="nothing was left half-written"):
+    monkeypatch.setattr(resultdir, "_carry_foreign", full)
+    monkeypatch.setattr(resultdir, "_swap", full)
+    with pytest.raises(OutputError, match="the folder is as it was"):
         write_all(demo_result, tmp_path / "o")
-    assert os.listdir(tmp_path / "o") == []
+    assert os.listdir(tmp_path) == []
 
 
 def test_selected_yaml_reads_back(demo_result, tmp_path):

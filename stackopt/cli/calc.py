@@ -8,6 +8,7 @@ from collections.abc import Callable, Sequence
 from typing import Any
 
 from stackopt.cli.registry import CALCULATORS, help_of
+from stackopt.cli.text import say
 
 
 def calculator(compute: Callable[[argparse.Namespace], dict[str, Any]],
@@ -17,7 +18,7 @@ def calculator(compute: Callable[[argparse.Namespace], dict[str, Any]],
 
     def run(args: argparse.Namespace) -> int:
         result = compute(args)
-        print(json.dumps(result) if args.json else render(result))
+        say(json.dumps(result) if args.json else render(result))
         return 0
 
     return run

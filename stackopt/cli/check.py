@@ -6,6 +6,7 @@ import argparse
 
 from stackopt.cli.common import load_inputs, table
 from stackopt.cli.registry import help_of
+from stackopt.cli.text import say
 from stackopt.units import format_quantity as fq
 
 
@@ -31,13 +32,13 @@ def run(args: argparse.Namespace) -> int:
     compiled = compile_circuit(sc.circuit)
     problem = Problem(sc, tb)
     sp = problem.space
-    print(f"scenario  {sc.name}  ({inp.scenario_path})" + ("  [invented]" if sc.invented else ""))
-    print(f"cost table  {tb.fab}, {tb.currency}  ({inp.table_path})"
+    say(f"scenario  {sc.name}  ({inp.scenario_path})" + ("  [invented]" if sc.invented else ""))
+    say(f"cost table  {tb.fab}, {tb.currency}  ({inp.table_path})"
           + ("  [invented]" if tb.invented else ""))
     b = sc.board
-    print(f"board  {fq(b.width, 'length')} x {fq(b.height, 'length')}, quantity {b.quantity:,}")
+    say(f"board  {fq(b.width, 'length')} x {fq(b.height, 'length')}, quantity {b.quantity:,}")
     c = sc.circuit
-    print(f"circuit  z0 {fq(c.z0, 'impedance')}, ports {c.input} -> {c.output}, "
+    say(f"circuit  z0 {fq(c.z0, 'impedance')}, ports {c.input} -> {c.output}, "
           f"{compiled.n_elements} elements ({', '.join(compiled.names)}), "
           f"{len(compiled.conn_names)} ground connections")
     rows = []
@@ -46,25 +47,25 @@ def run(args: argparse.Namespace) -> int:
                  f"{fq(r.band[0], 'frequency')} .. {fq(r.band[1], 'frequency')}")  # type: ignore[index]
         rows.append([r.label, where, f">= {r.min_attenuation:g} dB"])
     if rows:
-        print(table(rows, ["requirement", "at", "attenuation"]))
+        say(table(rows, ["requirement", "at", "attenuation"]))
     for ln in sc.lines:
         mw = f", at most {fq(ln.max_width, 'length')} wide" if ln.max_width else ""
-        print(f"line  {ln.name}: {ln.type} {fq(ln.impedance, 'impedance')}{mw}")
+        say(f"line  {ln.name}: {ln.type} {fq(ln.impedance, 'impedance')}{mw}")
     w = sc.space.thickness
-    print("space  layers " + ", ".join(str(a.n_layers) + " " + a.name for a in sp.arrangements))
+    say("space  layers " + ", ".join(str(a.n_layers) + " " + a.name for a in sp.arrangements))
     if sp.constructions:
-        print(f"       only the fab's standard constructions: "
+        say(f"       only the fab's standard constructions: "
               f"{', '.join(b[0] for b in sp.constructions)}")
-    print(f"       {len(sp.options['prepreg'])} prepreg openings, {len(sp.options['core'])} "
+    say(f"       {len(sp.options['prepreg'])} prepreg openings, {len(sp.options['core'])} "
           f"cores; copper {', '.join(fq(x, 'length') for x in sp.copper)}; drills "
           f"{', '.join(fq(x, 'length') for x in sp.drills)}; vias per ground "
           f"{', '.join(map(str, sp.vias))}")
     if w is not None:
         lo, hi = w.bounds
-        print(f"       finished thickness {fq(lo, 'length')} .. {fq(hi, 'length')}"
+        say(f"       finished thickness {fq(lo, 'length')} .. {fq(hi, 'length')}"
               + ("; symmetric only" if sc.space.symmetric else ""))
     if sp.mitigations:
-        print(f"       mitigations: {', '.join(sp.mitigations)}")
-    print(f"       {sp.size:,} stackups in the space")
-    print("ok")
+        say(f"       mitigations: {', '.join(sp.mitigations)}")
+    say(f"       {sp.size:,} stackups in the space")
+    say("ok")
     return 0

@@ -8,6 +8,7 @@ from typing import Any
 
 from stackopt.cli.common import load_inputs, table
 from stackopt.cli.registry import help_of
+from stackopt.cli.text import say
 from stackopt.outputs.facts import money
 from stackopt.units import format_quantity as fq
 
@@ -55,27 +56,27 @@ def run(args: argparse.Namespace) -> int:
         "violations": ev.violated(0),
     }
     if args.json:
-        print(json.dumps(out, indent=2))
+        say(json.dumps(out, indent=2))
         return 0
     cur = inp.table.currency
-    print(f"{out['layers']} layers, {fq(out['thickness_m'], 'length')} finished; ground plane "
+    say(f"{out['layers']} layers, {fq(out['thickness_m'], 'length')} finished; ground plane "
           f"{fq(out['ground_plane_depth_m'], 'length')} under the top")
-    print(f"ground connections: {fq(out['ground_inductance_H'], 'inductance')} in all "
+    say(f"ground connections: {fq(out['ground_inductance_H'], 'inductance')} in all "
           f"({inp.scenario.search.via_model})")
     rows = [[r.label, f"{ev.attenuation[0, k]:.1f} dB", f">= {r.min_attenuation:g} dB"]
             for k, r in enumerate(sc.requirements)]
     if rows:
-        print(table(rows, ["requirement", "reached", "needed"]))
-    print(f"margin {out['margin_dB']:+.1f} dB; "
+        say(table(rows, ["requirement", "reached", "needed"]))
+    say(f"margin {out['margin_dB']:+.1f} dB; "
           + ("meets every requirement" if out["meets_requirements"] else "does NOT meet"))
     for name, w in out["line_widths_m"].items():
-        print(f"line {name}: " + ("no width reaches the target" if w is None
+        say(f"line {name}: " + ("no width reaches the target" if w is None
                                   else fq(w, "length") + " wide"))
     rows = [[k, money(v, cur)] for k, v in out["cost_items"].items() if v]
     rows.append(["unit cost", money(out["unit_cost"], cur)])
-    print(table(rows, ["cost item", "per board"]))
-    print(f"lot of {sc.board.quantity:,}: {money(out['lot_cost'], cur)}; lead time "
+    say(table(rows, ["cost item", "per board"]))
+    say(f"lot of {sc.board.quantity:,}: {money(out['lot_cost'], cur)}; lead time "
           f"{out['lead_time_days']:g} working days")
     if out["violations"]:
-        print("violates: " + "; ".join(out["violations"]))
+        say("violates: " + "; ".join(out["violations"]))
     return 0

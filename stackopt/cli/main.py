@@ -18,7 +18,8 @@ from collections.abc import Sequence
 
 from stackopt import __version__
 from stackopt.cli.registry import COMMANDS, Command
-from stackopt.errors import InputError, StackoptError, StackoptWarning
+from stackopt.cli.text import clean
+from stackopt.errors import InputError, Interrupted, StackoptError, StackoptWarning
 
 
 class _Parser(argparse.ArgumentParser):
@@ -81,7 +82,31 @@ def main(argv: Sequence[str] | None = None) -> int:
             warnings.simplefilter("ignore")
         warnings.simplefilter("always", StackoptWarning)
         warnings.showwarning = _WarningPrinter(warnings.showwarning)
-        return _run(argv, debug)
+        with _signals_raise():
+            return _run(argv, debug)
+
+
+@contextlib.contextmanager
+def _signals_raise():
+    """SIGINT, SIGTERM and SIGHUP raise :class:`~stackopt.errors.Interrupted` (so that the
+    output writer can clean up and say what is in the folder) for the command's run."""
+    import signal
+    import threading
+
+    names = [n for n in ("SIGINT", "SIGTERM", "SIGHUP") if hasattr(signal, n)]
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+
+    def raise_it(signum, frame):
+        raise Interrupted(signum)
+
+    old = {n: signal.signal(getattr(signal, n), raise_it) for n in names}
+    try:
+        yield
+    finally:
+        for n, h in old.items():
+            signal.signal(getattr(signal, n), h)
 
 
 class _WarningPrinter:
@@ -99,7 +124,7 @@ class _WarningPrinter:
         text = str(message)
         if text not in self.seen:
             self.seen.add(text)
-            print(f"stackopt: warning: {text}", file=sys.stderr)
+            print(f"stackopt: warning: {clean(text)}", file=sys.stderr)
 
 
 def _run(argv: list[str], debug: bool) -> int:
@@ -113,11 +138,11 @@ def _run(argv: list[str], debug: bool) -> int:
     except StackoptError as exc:
         if debug:
             raise
-        print(f"stackopt: error: {exc}", file=sys.stderr)
+        print(f"stackopt: error: {clean(str(exc))}", file=sys.stderr)
         return getattr(exc, "exit_code", 2)
-    except KeyboardInterrupt:
-        print("stackopt: interrupted; no partial output was kept", file=sys.stderr)
-        return 130
+    except KeyboardInterrupt as exc:
+        print(f"stackopt: {_interrupted(exc)}", file=sys.stderr)
+        return getattr(exc, "exit_code", 130)
     except BrokenPipeError:  # `stackopt check x.yaml | head`: the reader left; not a bug
         with contextlib.suppress(OSError, ValueError):
             sys.stdout = open(os.devnull, "w")  # noqa: SIM115 - Python's own advice
@@ -125,13 +150,25 @@ def _run(argv: list[str], debug: bool) -> int:
     except Exception as exc:  # noqa: BLE001 - the last line of defence
         if debug:
             raise
-        text = " ".join(f"{type(exc).__name__}: {exc}".split())
+        text = clean(" ".join(f"{type(exc).__name__}: {exc}".split()))
         if len(text) > 300:
             text = text[:297] + "..."
         print(f"stackopt: internal error: {text}. This is a bug; please report it with the "
               "command and input files (rerun with --debug for the traceback).",
               file=sys.stderr)
         return 1
+
+
+def _interrupted(exc: KeyboardInterrupt) -> str:
+    """One line saying what an interrupt left in the output folder (true by construction
+    of :mod:`stackopt.outputs.resultdir`)."""
+    out = getattr(exc, "out", None)
+    if out is None:
+        return "interrupted; nothing was written"
+    if getattr(exc, "committed", False):
+        return f"interrupted after the new result was complete; {clean(str(out))} holds it"
+    return (f"interrupted; the previous contents of {clean(str(out))} are intact "
+            "(nothing of this run was kept)")
 
 
 def entry() -> None:

@@ -9,6 +9,7 @@ from pathlib import Path
 from stackopt.cli.common import load_inputs, safe_dirname, table
 from stackopt.cli.options import count
 from stackopt.cli.registry import help_of
+from stackopt.cli.text import say as _say
 from stackopt.outputs.facts import money
 
 PICK_LABELS = {
@@ -70,22 +71,35 @@ class _Bar:
 def run(args: argparse.Namespace) -> int:
     """Run the search and write every output file."""
     import stackopt
+    from stackopt.errors import Interrupted
     from stackopt.outputs.bundle import write_all
     from stackopt.outputs.files import prepare_out_dir
+    from stackopt.outputs.resultdir import pause_point
 
+    out = Path(args.out) if args.out is not None else None
+    if out is not None:  # a bad --out is refused before the inputs are even read
+        out = prepare_out_dir(out, args.force)
     inp = load_inputs(args.scenario, args.costs)
-    out = Path(args.out) if args.out else Path("stackopt-out") / safe_dirname(inp.scenario.name)
-    prepare_out_dir(out, args.force)
-    say = (lambda *a: None) if args.quiet else print
+    if out is None:
+        out = prepare_out_dir(Path("stackopt-out") / safe_dirname(inp.scenario.name),
+                              args.force)
+    say = (lambda *a: None) if args.quiet else _say
     say(f"stackopt: {inp.scenario.name} priced by {inp.table.fab}"
         + (" (built-in demo)" if inp.demo else ""))
     bar = _Bar(not args.quiet)
-    result = stackopt.optimize(inp.scenario, inp.table, seed=args.seed, method=args.method,
-                               budget=args.budget, progress=bar)
-    bar.close()
-    extra = {"inputs": {"scenario": str(inp.scenario_path.name),
-                        "cost_table": str(inp.table_path.name), "sha256": inp.hashes()}}
-    write_all(result, out, force=args.force, extra_summary=extra)
+    try:
+        pause_point("search")
+        result = stackopt.optimize(inp.scenario, inp.table, seed=args.seed,
+                                   method=args.method, budget=args.budget, progress=bar)
+        bar.close()
+        extra = {"inputs": {"scenario": str(inp.scenario_path.name),
+                            "cost_table": str(inp.table_path.name), "sha256": inp.hashes()}}
+        write_all(result, out, force=args.force, extra_summary=extra)
+    except Interrupted as exc:
+        bar.close()
+        if exc.out is None:
+            exc.out = out
+        raise
     if args.quiet:
         return 0
     cur = inp.table.currency

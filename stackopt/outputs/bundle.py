@@ -1,19 +1,12 @@
-"""Write every output of one search into a folder, all or nothing.
-
-Everything is rendered in memory first; the files are then written (and fsynced) into a
-hidden staging folder inside the output folder and renamed onto their final names. A
-failure at any step removes the staging folder, so no half-written file is left behind.
-"""
+"""Every output of one search, rendered in memory and written as one result, all or
+nothing (:mod:`stackopt.outputs.resultdir`): ``--out`` holds the complete previous result
+or the complete new one at every instant. A new output is one more entry in the mapping
+:func:`render_all` returns (a path relative to ``--out``; sub-folders allowed)."""
 
 from __future__ import annotations
 
-import contextlib
-import os
-import shutil
-import tempfile
 from pathlib import Path
 
-from stackopt.errors import OutputError
 from stackopt.outputs.exports import (
     candidates_csv,
     front_csv,
@@ -22,7 +15,8 @@ from stackopt.outputs.exports import (
     summary_json,
 )
 from stackopt.outputs.facts import selected_index, sweep_freqs
-from stackopt.outputs.files import fsync_dir, inside, prepare_out_dir
+from stackopt.outputs.files import prepare_out_dir
+from stackopt.outputs.resultdir import write_result
 
 __all__ = ["FILES", "render_all", "write_all"]
 
@@ -100,7 +94,8 @@ def render_all(result, extra_summary: dict | None = None) -> dict[str, bytes]:
 
 def write_all(result, out_dir: str | Path, force: bool = False,
               extra_summary: dict | None = None) -> list[Path]:
-    """Render and write every output file (:data:`FILES`) into ``out_dir``.
+    """Render every output file and write them as one result into ``out_dir``, all or
+    nothing (:func:`stackopt.outputs.resultdir.write_result`).
 
     Parameters
     ----------
@@ -109,7 +104,8 @@ def write_all(result, out_dir: str | Path, force: bool = False,
     out_dir : path
         Created if missing; an existing non-empty folder needs ``force``.
     force : bool
-        Overwrite the fixed names in a non-empty folder (other files are left alone).
+        Replace the earlier stackopt result in the folder as a whole (files stackopt did
+        not write are kept).
     extra_summary : dict, optional
         Keys added to ``summary.json`` (e.g. input file hashes).
 
@@ -121,34 +117,8 @@ def write_all(result, out_dir: str | Path, force: bool = False,
     Raises
     ------
     OutputError
-        The folder is not empty without ``force``, or cannot be written. No partial file
-        remains.
+        The folder is not empty without ``force``, or cannot be written; the folder is
+        then as it was.
     """
-    out = prepare_out_dir(out_dir, force)
-    files = render_all(result, extra_summary)  # a rendering error writes nothing
-    targets = {name: inside(out, name) for name in files}
-    try:
-        stage = Path(tempfile.mkdtemp(prefix=".stackopt-staging-", dir=out))
-    except OSError as exc:
-        raise OutputError(f"{out}: cannot write ({exc.strerror or exc}); "
-                          "choose another --out") from None
-    moved: list[Path] = []
-    try:
-        for name, data in files.items():
-            with open(stage / name, "wb") as fh:
-                fh.write(data)
-                fh.flush()
-                os.fsync(fh.fileno())
-        for name in files:
-            os.replace(stage / name, targets[name])
-            moved.append(targets[name])
-        fsync_dir(out)
-    except OSError as exc:
-        for p in moved:
-            with contextlib.suppress(OSError):
-                p.unlink()
-        raise OutputError(f"{out}: writing the outputs failed ({exc.strerror or exc}); "
-                          "nothing was left half-written; check the free space") from None
-    finally:
-        shutil.rmtree(stage, ignore_errors=True)
-    return moved
+    prepare_out_dir(out_dir, force)  # before rendering: a refusal costs nothing
+    return write_result(out_dir, render_all(result, extra_summary), force)

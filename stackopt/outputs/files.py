@@ -93,40 +93,8 @@ def inside(folder: str | Path, name: str | Path) -> Path:
 
 
 def prepare_out_dir(path: str | Path, force: bool = False) -> Path:
-    """Create the output folder (and its parents) or accept an existing one.
+    """Check that ``path`` can receive a result (creating nothing); see
+    :func:`stackopt.outputs.resultdir.check_out_dir`."""
+    from stackopt.outputs.resultdir import check_out_dir
 
-    An existing folder that is not empty is only used with ``force``; the folder must be
-    writable. Returns the resolved path.
-
-    Raises
-    ------
-    OutputError
-        One line: the folder is not empty (use ``--force`` or another ``--out``), is a
-        file, or cannot be created or written.
-    """
-    p = Path(path)
-    if p.exists() and not p.is_dir():
-        raise OutputError(f"{p}: exists and is not a folder; choose another --out")
-    if p.is_dir():
-        try:
-            non_empty = any(p.iterdir())
-        except OSError as exc:
-            raise OutputError(f"{p}: cannot read the output folder ({exc.strerror or exc}); "
-                              "choose another --out") from None
-        if non_empty and not force:
-            raise OutputError(f"{p}: output folder is not empty; use --force to overwrite "
-                              "or choose another --out")
-    else:
-        try:
-            p.mkdir(parents=True, exist_ok=True)
-        except OSError as exc:
-            raise OutputError(f"{p}: cannot create the output folder "
-                              f"({exc.strerror or exc}); choose another --out") from None
-    try:  # writable? (permission bits lie for root and on some mounts: try it)
-        fd, tmp = tempfile.mkstemp(prefix=".stackopt-probe.", dir=p)
-        os.close(fd)
-        os.unlink(tmp)
-    except OSError as exc:
-        raise OutputError(f"{p}: output folder is not writable ({exc.strerror or exc}); "
-                          "choose another --out") from None
-    return p.resolve()
+    return check_out_dir(path, force)
