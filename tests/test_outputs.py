@@ -15,10 +15,10 @@ from outputs_support import DEMO, ROOT, renamed, run, second_run
 
 from stackopt.errors import OutputError
 from stackopt.outputs.bundle import FILES, render_all, write_all
-from stackopt.outputs.resultdir import MANIFEST
 from stackopt.outputs.exports import candidates_csv, selected_yaml, summary_json
 from stackopt.outputs.facts import selected_index
 from stackopt.outputs.report import report_html, report_markdown
+from stackopt.outputs.resultdir import MANIFEST
 
 
 @pytest.fixture(scope="module")

@@ -15,7 +15,38 @@ from numpy.typing import ArrayLike
 
 from stackopt.errors import InputError, OutputError
 
-__all__ = ["touchstone_text", "write_touchstone"]
+__all__ = ["touchstone_text", "write_touchstone", "ascii_comment"]
+
+#: Letters that Unicode decomposition does not reduce to ASCII but that have a usual
+#: Latin spelling (German, Nordic, Polish ...).
+_LATIN = {"ß": "ss", "ẞ": "SS", "æ": "ae", "Æ": "AE", "ø": "o", "Ø": "O", "œ": "oe",
+          "Œ": "OE", "ł": "l", "Ł": "L", "đ": "d", "Đ": "D", "þ": "th", "Þ": "TH",
+          "–": "-", "—": "-", "‘": "'", "’": "'", "“": '"', "”": '"', "µ": "u", "μ": "u",
+          "Ω": "ohm", "°": " deg", "±": "+/-", "×": "x"}
+
+
+def ascii_comment(text: str) -> str:
+    r"""``text`` as printable ASCII for a Touchstone comment line (the format is ASCII):
+    accents dropped (``für`` -> ``fur``), a few letters spelt out (``ß`` -> ``ss``), every
+    other character -- Greek, Japanese, control and direction marks -- escaped as
+    ``\uXXXX`` so nothing is lost and nothing can act on a terminal."""
+    import unicodedata
+
+    out = []
+    for c in text:
+        if " " <= c <= "~":
+            out.append(c)
+            continue
+        if c in _LATIN:
+            out.append(_LATIN[c])
+            continue
+        base = "".join(b for b in unicodedata.normalize("NFKD", c)
+                       if " " <= b <= "~")
+        if base and unicodedata.category(c)[0] in "LNPS":
+            out.append(base)
+        else:
+            out.append(f"\\u{ord(c):04x}" if ord(c) < 0x10000 else f"\\U{ord(c):08x}")
+    return "".join(out)
 
 
 def touchstone_text(freqs: ArrayLike, s: ArrayLike, z0: float, comment: str = "") -> str:
@@ -30,7 +61,8 @@ def touchstone_text(freqs: ArrayLike, s: ArrayLike, z0: float, comment: str = ""
     z0 : float
         Reference impedance [ohm], > 0.
     comment : str
-        Free text written as ``!`` lines at the top (may hold newlines).
+        Free text written as ``!`` lines at the top (may hold newlines; any script:
+        written through :func:`ascii_comment`).
     """
     f = np.asarray(freqs, dtype=float).reshape(-1)
     arr = np.asarray(s, dtype=complex)
@@ -42,7 +74,8 @@ def touchstone_text(freqs: ArrayLike, s: ArrayLike, z0: float, comment: str = ""
     if np.any(np.diff(f) <= 0) or not z0 > 0:
         raise InputError("Touchstone needs increasing frequencies and z0 > 0",
                          fix="sort the grid")
-    lines = [f"! {c}".rstrip() for c in comment.splitlines()] if comment else []
+    lines = ([f"! {ascii_comment(c)}".rstrip() for c in comment.splitlines()]
+             if comment else [])
     lines.append(f"# Hz S RI R {z0:.12g}")
     order = ((0, 0), (1, 0), (0, 1), (1, 1))  # N11 N21 N12 N22
     for fi, si in zip(f, arr, strict=True):
