@@ -12,14 +12,17 @@ from stackopt.errors import InputError
 from stackopt.model.costtable import CostTable
 from stackopt.model.scenario import Scenario
 from stackopt.physics.inductance import VIA_MODELS
-from stackopt.search.exact import exact_candidates, exact_work
+from stackopt.search.exact import exact_candidates, exact_cost
 from stackopt.search.problem import Problem
 from stackopt.search.results import Result
 
-__all__ = ["optimize", "EXACT_WORK_LIMIT"]
+__all__ = ["optimize", "EXACT_TIME_LIMIT", "EXACT_MEMORY_LIMIT"]
 
-#: Above this many priced (head x thickness state) totals, "auto" uses NSGA-II.
-EXACT_WORK_LIMIT = 2e8
+#: "auto" searches exactly whenever the exact search is predicted to finish within this
+#: time (s, on the reference machine) and memory (bytes); NSGA-II only beyond. The exact
+#: front is the answer; NSGA-II an approximation of it (docs/performance.md).
+EXACT_TIME_LIMIT = 300.0
+EXACT_MEMORY_LIMIT = 4e9
 
 Method = Literal["auto", "exact", "nsga2"]
 
@@ -97,7 +100,7 @@ def optimize(
         raise InputError("the design space is empty: no layer count or drill of the scenario "
                          "is offered by the fab", key="space",
                          fix="allow layer counts and drills that the cost table prices")
-    work = exact_work(problem)
+    cost = exact_cost(problem)
     if problem.space.constructions:
         if method == "nsga2":
             raise InputError("NSGA-II does not search a space of standard constructions",
@@ -105,8 +108,11 @@ def optimize(
                              "small and is evaluated whole)")
         method = "exact"
     if method == "auto":
-        method = "exact" if work <= EXACT_WORK_LIMIT else "nsga2"
-    stats: dict = {"exact_work_estimate": int(work)}
+        method = ("exact" if cost.seconds <= EXACT_TIME_LIMIT
+                  and cost.bytes <= EXACT_MEMORY_LIMIT else "nsga2")
+    stats: dict = {"exact_estimate": {"priced": cost.priced,
+                                      "representatives": cost.representatives,
+                                      "seconds": round(cost.seconds, 3)}}
     if method == "exact":
         plan = exact_candidates(problem)
         cands = plan.representatives

@@ -25,7 +25,7 @@ from stackopt.cost import PriceBatch, price
 from stackopt.search.problem import Problem
 from stackopt.search.space import Arrangement, Candidates, Space
 
-__all__ = ["ExactPlan", "exact_candidates", "enumerate_all", "exact_work",
+__all__ = ["ExactPlan", "ExactCost", "exact_candidates", "enumerate_all", "exact_cost",
            "construction_candidates"]
 
 _BIG = 1e30
@@ -115,17 +115,57 @@ def _thickness_terms(problem: Problem, layers: int, cu: float, drill: float, vip
     return pr.unit_cost, viol, pr.lead_time_days
 
 
-def exact_work(problem: Problem) -> int:
-    """A cheap estimate of the totals the exact search would price (to choose a method)."""
+#: Seconds per (head x thickness state x copper x drill x via-in-pad) total priced, and
+#: per representative evaluated in full (physics once per phenotype, pricing, widths);
+#: bytes held per representative during its evaluation. Fitted to runs of
+#: ``benchmarks/bench_auto.py`` on the machine of docs/performance.md (2-core AMD EPYC,
+#: one thread); the estimate's error against real runs is quoted there.
+SECONDS_PER_PRICED = 0.35e-6
+SECONDS_PER_REPRESENTATIVE = 45e-6
+BYTES_PER_REPRESENTATIVE = 1400
+
+
+@dataclass(frozen=True)
+class ExactCost:
+    """What the exact search of a space would do, counted before doing it."""
+
+    priced: int  # (head x state x copper x drill x via-in-pad) totals priced
+    representatives: int  # candidates evaluated in full (one per electrical group)
+
+    @property
+    def seconds(self) -> float:
+        """Predicted time on the reference machine, s."""
+        return (self.priced * SECONDS_PER_PRICED
+                + self.representatives * SECONDS_PER_REPRESENTATIVE)
+
+    @property
+    def bytes(self) -> float:
+        """Predicted peak memory of the evaluation, bytes."""
+        return self.representatives * BYTES_PER_REPRESENTATIVE
+
+
+def exact_cost(problem: Problem) -> ExactCost:
+    """Count what :func:`exact_candidates` would price and evaluate, without pricing: the
+    tail dynamic programme (cheap: thickness states only) gives the states per
+    arrangement; the head options and the other choices multiply. Exact except for the
+    extra representatives kept per lead time (``third_objective: lead_time``)."""
     sp = problem.space
-    total = 0
+    if sp.constructions:
+        n = len(construction_candidates(sp))
+        return ExactCost(n, n)
+    vip = 2 if "via_in_pad" in sp.mitigations else 1
+    other = 2 ** (len(sp.mitigations) - (vip == 2))
+    priced = reps = 0
     for a in sp.arrangements:
         opts = sp.gene_options(a)
         head = int(np.prod([opts[k] for k in a.head], dtype=np.float64))
-        tail = int(min(np.prod([opts[k] for k in range(len(opts)) if k not in a.head],
-                               dtype=np.float64), 2e5))
-        total += head * tail * len(sp.copper) * len(sp.drills) * 2
-    return total
+        tail = [k for k in range(len(opts)) if k not in a.head]
+        tables = _gene_tables(sp, a, np.zeros(sp.n_materials))
+        states = len(_tail_dp([tables[k] for k in tail])[0]) if tail else 1
+        groups = head * len(sp.copper) * len(sp.drills) * vip
+        priced += groups * states
+        reps += groups * len(sp.vias) * other
+    return ExactCost(int(priced), int(reps))
 
 
 def construction_candidates(space: Space) -> Candidates:
