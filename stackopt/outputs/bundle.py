@@ -44,16 +44,17 @@ def render_all(result, extra_summary: dict | None = None) -> dict[str, bytes]:
     """Every output file's bytes, by file name (nothing is written). The mitigation
     files and summary key come only from a design space with two-layer boards
     (``mitigation_ladder`` is ``null`` otherwise)."""
+    from stackopt.analyses.ideal import ideal_ground
+    from stackopt.outputs.parallel import render
     from stackopt.outputs.plots import figure_bytes, plot_front, plot_response
     from stackopt.outputs.plots_ladder import plot_mitigations
     from stackopt.outputs.plots_stackup import plot_costs, plot_prepregs, plot_stackups
     from stackopt.outputs.report import IMAGE_FILES, report_html, report_markdown
     from stackopt.search.ladder import mitigation_ladder
 
-    from stackopt.outputs.parallel import render
-
     ladder = mitigation_ladder(result)
     extra = {**(extra_summary or {}),
+             "ideal_ground": ideal_ground(result.problem).to_summary(),
              "mitigation_ladder": ladder.to_summary() if ladder is not None else None}
     # figures and the large CSV are independent: drawn on every free core (parallel.py)
     def front() -> dict[str, bytes]:  # one figure, PNG first then SVG as in one process
