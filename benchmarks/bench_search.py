@@ -27,7 +27,7 @@ from stackopt.inputs.costtable import load_cost_table
 from stackopt.inputs.scenario import load_scenario
 from stackopt.search.front import hypervolume, nondominated
 from stackopt.search.problem import Problem
-from stackopt.search.space import decode_genome, genome_bounds
+from stackopt.search.genome import decode_genome, genome_bounds
 
 
 def whole_space_scenario():

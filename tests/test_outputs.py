@@ -195,7 +195,7 @@ def test_selected_yaml_reads_back(demo_result, tmp_path):
     assert [c.role for c in st.copper] == [c.role for c in ref.copper]
     assert [d.material for d in st.dielectrics] == [d.material for d in ref.dielectrics]
     assert np.isclose(st.thickness, ref.thickness, rtol=1e-5)
-    assert np.isclose(st.via_depth(), ref.via_depth(), rtol=1e-5)
+    assert np.isclose(st.via_height(), ref.via_height(), rtol=1e-5)
     sel = load_selected(p)
     assert np.isclose(sel.drill, demo_result.evaluation.geometry.drill[i])
     assert sel.vias_per_ground == int(demo_result.evaluation.geometry.vias[i])

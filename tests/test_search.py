@@ -38,10 +38,10 @@ FILTER = {
 
 def scenario(circuit=FILTER, *, layers=(2, 4), symmetric=True, window=None, mitigations=(),
              req=(("1.8 GHz", "35 dB"), ("2.7 GHz", "45 dB")), drills=("0.2 mm", "0.3 mm"),
-             vias=(1, 2), lines=(), search=None):
+             vias=(1, 2), lines=(), search=None, copper=("1 oz",)):
     space = {"layers": list(layers), "symmetric": symmetric, "drills": list(drills),
              "vias_per_ground": list(vias), "mitigations": list(mitigations),
-             "copper": ["1 oz"]}
+             "copper": list(copper)}
     if window:
         space["thickness"] = {"nominal": window, "tolerance": 0.1}
     return Scenario.model_validate({
@@ -70,6 +70,12 @@ def brute_front(sc):
     {"symmetric": False},
     {"window": "1.6 mm"},
     {"window": "1.0 mm", "mitigations": ("via_in_pad", "own_vias")},
+    # copper changes the finished thickness, the via height (inner copper between the top
+    # and its plane on S-P-G-S) and the pad traces; coplanar changes the ground network
+    {"copper": ("0.5 oz", "1 oz", "2 oz"), "mitigations": ("coplanar", "via_in_pad"),
+     "drills": ("0.3 mm",), "vias": (1, 3)},
+    {"copper": ("0.5 oz", "2 oz"), "mitigations": ("coplanar",), "symmetric": False,
+     "window": "1.2 mm"},
 ])
 def test_exact_equals_brute_force(kw):
     sc = scenario(**kw)
@@ -153,7 +159,7 @@ def test_known_answer_only_a_thin_plane_meets():
     r = optimize(sc, TABLE)
     pick = r.picks["cheapest_meeting_requirements"]
     assert pick is not None
-    depth = r.evaluation.geometry.depth
+    depth = r.evaluation.geometry.via_height
     assert depth[pick] <= 0.2e-3
     assert np.all(depth[r.meets] <= 0.2e-3 + 1e-12)
     assert np.any(r.feasible & (depth > 0.2e-3))  # deeper planes exist but fail

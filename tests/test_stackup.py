@@ -26,14 +26,14 @@ def test_z_positions_and_thickness():
     assert s.thickness == pytest.approx(4 * CU + 2 * 0.19e-3 + 1.0e-3)  # 1.52 mm
 
 
-def test_plane_distances_and_via_depth():
+def test_plane_distances_and_via_height():
     s = four_layer()
     assert s.plane_distance(0) == (None, pytest.approx(0.19e-3))
     assert s.plane_distance(3) == (pytest.approx(0.19e-3), None)
-    assert s.via_depth(0) == pytest.approx(0.19e-3)  # to the ground plane on L2
+    assert s.via_height(0) == pytest.approx(0.19e-3)  # to the ground plane on L2
     # ground on L3: the via crosses the prepreg, L2's copper and the core
     s2 = four_layer(roles=("signal", "power", "ground", "signal"))
-    assert s2.via_depth(0) == pytest.approx(0.19e-3 + CU + 1.0e-3)
+    assert s2.via_height(0) == pytest.approx(0.19e-3 + CU + 1.0e-3)
     assert s2.reference_plane(0) == 1 and s2.ground_plane(0) == 2
 
 
@@ -49,7 +49,7 @@ def test_via_span_and_symmetry():
 
 def test_two_layer_helper():
     s = Stackup.two_layer(1.55e-3)
-    assert s.n_layers == 2 and s.via_depth(0) == pytest.approx(1.55e-3)
+    assert s.n_layers == 2 and s.via_height(0) == pytest.approx(1.55e-3)
     assert s.thickness == pytest.approx(1.55e-3 + 2 * CU)
 
 

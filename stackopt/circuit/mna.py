@@ -224,8 +224,8 @@ def mna_s(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray | None, *
 
 
 def solve(compiled: CompiledCircuit, freqs: np.ndarray, batch: GroundBatch | None = None,
-          model: str = "goldfarb-pucel", *, method: Method = "auto", mutual: bool = True
-          ) -> np.ndarray:
+          model: str = "goldfarb-pucel", *, method: Method = "auto", mutual: bool = True,
+          lg: np.ndarray | None = None) -> np.ndarray:
     """S-parameters of the circuit for every candidate of a batch.
 
     Parameters
@@ -244,6 +244,9 @@ def solve(compiled: CompiledCircuit, freqs: np.ndarray, batch: GroundBatch | Non
     mutual : bool, default True
         Mutual inductance between different ground connections' vias (see
         :func:`~stackopt.circuit.grounds.ground_inductance_matrix`).
+    lg : ndarray, shape (N, G, G), optional
+        That matrix, if the caller already computed it for ``batch``, ``model`` and
+        ``mutual`` (it is then not computed again).
 
     Returns
     -------
@@ -258,8 +261,8 @@ def solve(compiled: CompiledCircuit, freqs: np.ndarray, batch: GroundBatch | Non
         cascade is not exact.
     """
     f = _check_freqs(freqs)
-    lg = None if batch is None else ground_inductance_matrix(compiled, batch, model,
-                                                             mutual=mutual)
+    if lg is None and batch is not None:
+        lg = ground_inductance_matrix(compiled, batch, model, mutual=mutual)
     g = compiled.n_terminals
     uncoupled = lg is None or not np.any(lg[:, ~np.eye(g, dtype=bool)])
     ladder_ok = compiled.ladder is not None and uncoupled

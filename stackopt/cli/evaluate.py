@@ -41,7 +41,7 @@ def run(args: argparse.Namespace) -> int:
     sc = inp.scenario
     out: dict[str, Any] = {
         "layers": int(g.layers[0]), "thickness_m": float(g.thickness[0]),
-        "ground_plane_depth_m": float(g.depth[0]),
+        "ground_plane_depth_m": float(g.via_height[0]),
         "ground_inductance_H": float(ev.inductance[0]),
         "attenuation_dB": {r.key: float(ev.attenuation[0, k])
                            for k, r in enumerate(sc.requirements)},

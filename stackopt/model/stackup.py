@@ -1,7 +1,8 @@
 """The board stackup: an ordered list of copper layers and the dielectrics between them.
 
 Only thicknesses and materials are stored; z-positions, total thickness, distances to the
-nearest plane, via spans and symmetry are computed from them, never stored twice.
+nearest plane, via heights and symmetry are computed from them by
+:mod:`stackopt.model.geometry` (the one owner of stackup geometry), never stored twice.
 Layers are numbered 1..n from the top (component side) down; dielectric ``i`` (0-based)
 lies between copper layers ``i + 1`` and ``i + 2``.
 """
@@ -14,13 +15,23 @@ import numpy as np
 from pydantic import BaseModel, Field, model_validator
 
 from stackopt.model.fields import FROZEN, PositiveFloat, PositiveLength
+from stackopt.model.geometry import PLANE_ROLES, LayerStack
 
+#: Copper roles (the same list as :data:`stackopt.model.geometry.ROLES`; a test keeps them equal).
 Role = Literal["signal", "ground", "power", "plane", "mixed"]
-#: Roles that form a solid reference plane.
-PLANE_ROLES = ("ground", "power", "plane")
 DielectricKind = Literal["prepreg", "core"]
 
-__all__ = ["Copper", "Dielectric", "Stackup", "Role", "DielectricKind"]
+__all__ = ["Copper", "Dielectric", "Stackup", "Role", "DielectricKind", "PLANE_ROLES"]
+
+
+def _opt(a: np.ndarray) -> float | None:
+    v = float(np.asarray(a).reshape(-1)[0])
+    return None if np.isnan(v) else v
+
+
+def _index(a: np.ndarray) -> int | None:
+    v = int(np.asarray(a).reshape(-1)[0])
+    return None if v < 0 else v
 
 
 class Copper(BaseModel):
@@ -75,85 +86,66 @@ class Stackup(BaseModel):
             )
         return self
 
-    # ---- derived geometry (computed, never stored) -------------------------------------
+    # ---- derived geometry: delegated to stackopt.model.geometry -----------------------
     @property
     def n_layers(self) -> int:
         """Number of copper layers."""
         return len(self.copper)
 
     @property
+    def layer_stack(self) -> LayerStack:
+        """The stackup as per-layer arrays (N = 1), the owner of every derived height."""
+        return LayerStack.of([d.thickness for d in self.dielectrics],
+                             [d.er for d in self.dielectrics],
+                             [c.thickness for c in self.copper], [c.role for c in self.copper])
+
+    @property
     def z_top(self) -> np.ndarray:
         """z of the top face of each copper layer, m (0 at the top surface, positive down)."""
-        t = np.empty(2 * self.n_layers - 1)
-        t[0::2] = [c.thickness for c in self.copper]
-        t[1::2] = [d.thickness for d in self.dielectrics]
-        starts = np.concatenate([[0.0], np.cumsum(t)[:-1]])
-        return starts[0::2]
+        return self.layer_stack.z_top[0]
 
     @property
     def z_bottom(self) -> np.ndarray:
         """z of the bottom face of each copper layer, m."""
-        return self.z_top + np.array([c.thickness for c in self.copper])
+        return self.layer_stack.z_bottom[0]
 
     @property
     def thickness(self) -> float:
         """Total pressed thickness over copper, m (no mask or plating build-up)."""
-        return float(self.z_bottom[-1])
+        return float(self.layer_stack.thickness[0])
 
     @property
     def planes(self) -> list[int]:
         """0-based indices of the plane layers."""
-        return [i for i, c in enumerate(self.copper) if c.role in PLANE_ROLES]
-
-    def dielectric_between(self, a: int, b: int) -> float:
-        """Dielectric thickness (no copper) between copper layers ``a`` and ``b`` (0-based)."""
-        lo, hi = sorted((a, b))
-        return float(sum(d.thickness for d in self.dielectrics[lo:hi]))
+        return [int(i) for i in np.flatnonzero(self.layer_stack.is_plane[0])]
 
     def plane_distance(self, layer: int) -> tuple[float | None, float | None]:
-        """Distance from copper ``layer`` to the nearest plane above and below, m.
-
-        Measured face to face (bottom of the upper conductor to the top of the lower one),
-        i.e. the dielectric height a trace on ``layer`` sees. ``None`` where there is none.
-        """
-        above = [p for p in self.planes if p < layer]
-        below = [p for p in self.planes if p > layer]
-        up = float(self.z_top[layer] - self.z_bottom[max(above)]) if above else None
-        down = float(self.z_top[min(below)] - self.z_bottom[layer]) if below else None
-        return up, down
+        """Dielectric height from copper ``layer`` to the nearest plane above and below, m
+        (face to face: what a trace on ``layer`` sees). ``None`` where there is none."""
+        tr = self.layer_stack.trace(layer)
+        return _opt(tr.height_above), _opt(tr.height_below)
 
     def reference_plane(self, layer: int = 0) -> int | None:
         """The nearest plane to ``layer`` (0-based), or ``None`` if the board has none.
 
         For the top layer of a two-layer board with a bottom ground, that is layer 1.
         """
-        planes = [p for p in self.planes if p != layer]
-        if not planes:
-            return None
-        return min(planes, key=lambda p: (abs(p - layer), p))
+        return _index(self.layer_stack.reference_plane(layer))
 
     def ground_plane(self, layer: int = 0) -> int | None:
         """The ground plane a ground via from ``layer`` goes to: the nearest layer whose role
         is ``ground`` (else the nearest plane of any kind), or ``None``."""
-        grounds = [i for i, c in enumerate(self.copper) if c.role == "ground" and i != layer]
-        if grounds:
-            return min(grounds, key=lambda p: (abs(p - layer), p))
-        return self.reference_plane(layer)
+        return _index(self.layer_stack.ground_plane(layer))
 
-    def via_depth(self, layer: int = 0, plane: int | None = None) -> float | None:
-        """Height ``h`` of a ground via from ``layer`` to ``plane`` (default: nearest), m.
+    def via_height(self, layer: int = 0) -> float | None:
+        """Height ``h`` of a ground via from ``layer`` to its ground plane, m.
 
-        The dielectric between the two copper faces (the ``h`` of the ground-via models:
-        substrate thickness for Goldfarb-Pucel). For the top layer of a four-layer board
-        with 0.19 mm prepreg to layer 2 this is 0.19 mm; for a 1.6 mm two-layer board it
-        is the core thickness. ``None`` if the board has no plane.
+        The dielectric and inner copper between the two copper faces (the ``h`` of the
+        ground-via models: substrate thickness for Goldfarb-Pucel). For the top layer of a
+        four-layer board with 0.19 mm prepreg to layer 2 this is 0.19 mm; for a 1.6 mm
+        two-layer board it is the core thickness. ``None`` if the board has no plane.
         """
-        plane = self.ground_plane(layer) if plane is None else plane
-        if plane is None:
-            return None
-        return self.dielectric_between(layer, plane) + float(
-            sum(c.thickness for c in self.copper[min(layer, plane) + 1:max(layer, plane)])
-        )
+        return _opt(self.layer_stack.via_height(layer))
 
     def via_span(self, a: int, b: int) -> float:
         """Barrel length of a via joining copper layers ``a`` and ``b`` outer face to face."""

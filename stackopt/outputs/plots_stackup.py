@@ -152,7 +152,7 @@ def plot_prepregs(result) -> Figure:
     margin = np.array([r[3] for r in rows])
     ax1.barh(ys, margin, color=np.where(margin >= 0, "#2ca02c", "#d62728"), height=0.6)
     ax1.axvline(0, color="black", lw=0.8)
-    ax1.set_yticks(ys, [f"{plain(r[0])} ({ev.geometry.ref_height[r[2]] * 1e3:.3g} mm, "
+    ax1.set_yticks(ys, [f"{plain(r[0])} ({ev.geometry.trace_height[r[2]] * 1e3:.3g} mm, "
                         f"Dk {r[1]:.2f}, {int(ev.geometry.layers[r[2]])}L)" for r in rows])
     ax1.invert_yaxis()
     ax1.set_xlabel("Best margin reached (dB)")

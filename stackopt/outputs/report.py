@@ -176,7 +176,7 @@ def picks_table(result) -> tuple:
                      str(_layers(result, i)), money(ev.unit_cost[i], cur),
                      money(ev.lot_cost[i], cur, 0), db(ev.margin[i], sign=True),
                      f"{ev.lead_time_days[i]:g} days",
-                     f"{tops[i]}, {mm(ev.geometry.ref_height[i])}",
+                     f"{tops[i]}, {mm(ev.geometry.trace_height[i])}",
                      ", ".join(m.replace("_", " ") for m in mit) or "none"])
     return ("table", ["Pick", "Candidate", "Layers", "Per board", "Lot", "Margin",
                       "Lead time", "Top dielectric", "Mitigations"], rows)

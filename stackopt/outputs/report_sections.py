@@ -74,7 +74,7 @@ def risks(result) -> list[str]:
             continue
         for j, ln in enumerate(sc.lines):
             w = float(ev.widths[i, j])
-            h = mm(g.ref_height[i])
+            h = mm(g.trace_height[i])
             if not math.isfinite(w):
                 out.append(f"On the {what} board ({result.ids[i]}) the {ln.impedance:g} ohm "
                            f"line '{ln.name}' cannot reach its impedance within the width "

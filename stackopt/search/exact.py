@@ -7,10 +7,11 @@ and the material cost, and the material cost is additive. So for every electrica
 (arrangement, head, copper, drill, vias, mitigations) only the cheapest tail that meets
 the thickness rules can be on the front. The cheapest tail for every reachable thickness
 is found by dynamic programming over the tail genes (states keyed by thickness in whole
-nanometres, so sums are exact); the thickness-dependent prices and limits (window, aspect
+quanta of :func:`stackopt.search.phenotype.quantize`, 1 nm, so sums are exact); the
+thickness-dependent prices and limits (window, aspect
 ratio, non-standard thickness) are then applied to each state. One representative per
 group is evaluated in full; the front over the representatives equals the front over the
-whole space (``tests/test_search_exact.py`` checks this against brute force).
+whole space (``tests/test_search.py`` checks this against brute force).
 """
 
 from __future__ import annotations
@@ -22,6 +23,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from stackopt.cost import PriceBatch, price
+from stackopt.search.phenotype import QUANTUM, quantize
 from stackopt.search.problem import Problem
 from stackopt.search.space import Arrangement, Candidates, Space
 
@@ -46,7 +48,7 @@ def _gene_tables(space: Space, a: Arrangement, coef: np.ndarray):
     for slots in a.genes:
         o = space.options[a.slot_kinds[slots[0]]]
         mult = len(slots)
-        t_nm = np.rint(o.thickness * 1e9).astype(np.int64) * mult
+        t_nm = quantize(o.thickness) * mult
         cost = coef[o.material] * o.count * mult
         out.append((t_nm, cost))
     return out
@@ -219,11 +221,11 @@ def exact_candidates(problem: Problem) -> ExactPlan:
         head_c = sum(tables[k][1][head_opt[:, j]] for j, k in enumerate(head_ids))
         for (ci, cu), (di, drill), vip in itertools.product(
                 enumerate(sp.copper), enumerate(sp.drills), vip_values):
-            cu_nm = int(round(cu * 1e9)) * a.n_layers
+            cu_nm = int(quantize(cu)) * a.n_layers
             tot = head_t[:, None] + st_t[None, :] + cu_nm  # (H, S) nm
             uniq, inv = np.unique(tot, return_inverse=True)
             base, viol, lead = _thickness_terms(problem, a.n_layers, cu, drill, vip,
-                                                uniq * 1e-9)
+                                                uniq * QUANTUM)
             inv = inv.reshape(tot.shape)
             cost = base[inv] + head_c[:, None] + st_c[None, :]
             v = viol[inv]

@@ -28,8 +28,9 @@ from pymoo.operators.repair.rounding import RoundingRepair
 from pymoo.operators.survival.rank_and_crowding import RankAndCrowding
 from pymoo.optimize import minimize
 
+from stackopt.search.genome import decode_genome, genome_bounds
 from stackopt.search.problem import Problem
-from stackopt.search.space import Candidates, decode_genome, genome_bounds
+from stackopt.search.space import Candidates
 
 __all__ = ["run_nsga2", "Archive"]
 

@@ -1,8 +1,9 @@
 """One search problem: scenario + fab table → design space and a batched evaluator.
 
 :meth:`Problem.evaluate` takes a batch of :class:`~stackopt.search.space.Candidates` and
-returns arrays of every metric. Electrical work is done once per unique *phenotype* (ground
-via height, drill, vias per connection, copper, mitigations) and broadcast back; every
+returns arrays of every metric. Electrical work is done once per unique *phenotype* (the
+quantized fields of the ground batch the circuit receives, and of the line batches the
+width synthesis receives; :mod:`stackopt.search.phenotype`) and broadcast back; every
 candidate is priced.
 """
 
@@ -10,6 +11,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from functools import cached_property
+from typing import Any
 
 import numpy as np
 
@@ -19,7 +21,8 @@ from stackopt.circuit.metrics import attenuation_db
 from stackopt.cost import PriceBatch, price
 from stackopt.model.costtable import BoardOrder, CostTable
 from stackopt.model.scenario import Scenario
-from stackopt.physics.synthesis import synthesize_width
+from stackopt.physics.synthesis import LineKind, synthesize_width
+from stackopt.search.phenotype import LineBatch, batch_key, unique_rows
 from stackopt.search.space import Candidates, DielectricOptions, Geometry, Space
 
 __all__ = ["Problem", "Evaluation", "dielectric_options"]
@@ -153,36 +156,39 @@ class Problem:
     def ground_batch(self, g: Geometry) -> GroundBatch:
         """The circuit's view of a batch: ground-via height, drill, vias and switches
         (``coplanar``: a stitched ground pour, see :mod:`stackopt.circuit.grounds`)."""
-        n = len(g.depth)
+        n = len(g)
         off = np.zeros(n, dtype=bool)
-        return GroundBatch(height=g.depth, drill=g.drill, vias=g.vias,
+        return GroundBatch(height=g.via_height, drill=g.drill, vias=g.vias,
                            via_in_pad=g.flags.get("via_in_pad", off),
                            own_vias=g.flags.get("own_vias", off), copper=g.copper,
                            coplanar=g.flags.get("coplanar", off),
                            pour_gap=np.full(n, self.pour_gap))
 
+    def line_batch(self, g: Geometry, line: int) -> LineBatch:
+        """What the width synthesis of scenario line ``line`` receives for a batch."""
+        ln = self.scenario.lines[line]
+        cop = g.flags.get("coplanar", np.zeros(len(g), dtype=bool))
+        return LineBatch(height=g.trace_height, er=g.trace_er, copper=g.copper,
+                         coplanar=cop | (ln.type == "cpwg"))
+
     def phenotype(self, g: Geometry) -> np.ndarray:
-        """The numbers the electrical response depends on, one row per candidate."""
-        n = len(g.depth)
-        cols = [np.round(g.depth * 1e9), np.round(g.drill * 1e9), g.vias,
-                np.round(g.copper * 1e9)]
-        cols += [g.flags[m].astype(float) for m in ("via_in_pad", "own_vias", "coplanar")
-                 if m in g.flags]
-        return np.column_stack(cols) if n else np.zeros((0, len(cols)))
+        """The electrical phenotype key, one int row per candidate: every field of the
+        ground batch and of every line's batch, quantized (:mod:`stackopt.search.phenotype`)."""
+        lines = [self.line_batch(g, j) for j in range(len(self.scenario.lines))]
+        return batch_key(self.ground_batch(g), *lines)
 
     def response(self, g: Geometry, model: str | None = None) -> tuple[np.ndarray, np.ndarray]:
-        """(S (N, F, 2, 2), ground inductance sum (N,)) computed per unique phenotype."""
+        """(S (N, F, 2, 2), ground inductance sum (N,)), computed once per distinct ground
+        batch (the circuit's whole input) and broadcast back."""
         model = model or self.scenario.search.via_model
-        ph = self.phenotype(g)
-        _, first, inv = np.unique(ph, axis=0, return_index=True, return_inverse=True)
-        inv = inv.reshape(-1)
         gb = self.ground_batch(g)
+        first, inv = unique_rows(batch_key(gb))
         s = np.empty((len(first), len(self.freqs), 2, 2), dtype=complex)
         lsum = np.zeros(len(first))
         for i0 in range(0, len(first), PHENOTYPE_CHUNK):  # chunks bound the memory
             sub = gb.take(first[i0:i0 + PHENOTYPE_CHUNK])
-            s[i0:i0 + PHENOTYPE_CHUNK] = solve(self.compiled, self.freqs, sub, model)
             lmat = ground_inductance_matrix(self.compiled, sub, model)
+            s[i0:i0 + PHENOTYPE_CHUNK] = solve(self.compiled, self.freqs, sub, model, lg=lmat)
             if lmat.shape[-1]:
                 lsum[i0:i0 + PHENOTYPE_CHUNK] = np.trace(lmat, axis1=-2, axis2=-1)
         return s[inv], lsum[inv]
@@ -215,38 +221,34 @@ class Problem:
 
     def line_widths(self, g: Geometry) -> np.ndarray:
         """Width of every controlled-impedance line on each candidate (NaN: unreachable),
-        synthesized once per distinct (dielectric height, Dk, copper, line kind)."""
+        synthesized once per distinct :class:`~stackopt.search.phenotype.LineBatch` row."""
         lines = self.scenario.lines
-        n = len(g.depth)
-        out = np.full((n, len(lines)), np.nan)
-        cop = g.flags.get("coplanar", np.zeros(n, dtype=bool))
+        out = np.full((len(g), len(lines)), np.nan)
         for j, ln in enumerate(lines):  # a handful of lines
             gap = ln.gap if ln.gap is not None else self.pour_gap
-            use_cpw = cop | (ln.type == "cpwg")
-            key = np.column_stack([g.ref_height, g.ref_er, g.copper, use_cpw])
-            uniq, inv = np.unique(key, axis=0, return_inverse=True)
-            h, er, t, cpw = uniq[:, 0], uniq[:, 1], uniq[:, 2], uniq[:, 3] > 0
-            w = np.full(len(uniq), np.nan)
-            if (~cpw).any():
-                wk, ok = synthesize_width(ln.impedance, h[~cpw], er[~cpw], t[~cpw],
-                                          kind="microstrip", w_min=WIDTH_RANGE[0],
-                                          w_max=WIDTH_RANGE[1])
-                w[~cpw] = np.where(ok, wk, np.nan)
-            if cpw.any():
-                wk, ok = synthesize_width(ln.impedance, h[cpw], er[cpw], t[cpw], kind="cpwg",
-                                          w_min=WIDTH_RANGE[0], w_max=WIDTH_RANGE[1], gap=gap)
-                w[cpw] = np.where(ok, wk, np.nan)
-            out[:, j] = w[inv.reshape(-1)]
+            lb = self.line_batch(g, j)
+            first, inv = unique_rows(batch_key(lb))
+            u = lb.take(first)
+            w = np.full(len(first), np.nan)
+            kinds: tuple[tuple[LineKind, np.ndarray, dict[str, Any]], ...] = (
+                ("microstrip", ~u.coplanar, {}), ("cpwg", u.coplanar, {"gap": gap}))
+            for kind, sel, extra in kinds:
+                if sel.any():
+                    wk, ok = synthesize_width(ln.impedance, u.height[sel], u.er[sel],
+                                              u.copper[sel], kind=kind, w_min=WIDTH_RANGE[0],
+                                              w_max=WIDTH_RANGE[1], **extra)
+                    w[sel] = np.where(ok, wk, np.nan)
+            out[:, j] = w[inv]
         return out
 
     # ---- everything ------------------------------------------------------------------
     def price_batch(self, g: Geometry, min_trace: np.ndarray) -> PriceBatch:
         """What the fab prices for a batch."""
-        n = len(g.depth)
+        n = len(g)
         off = np.zeros(n, dtype=bool)
         return PriceBatch.broadcast(
             layers=g.layers, material_counts=g.material_counts, copper=g.copper,
-            inner_copper=g.copper, min_drill=g.drill, thickness=g.thickness,
+            inner_copper=g.inner_copper, min_drill=g.drill, thickness=g.thickness,
             min_dielectric=g.min_dielectric, min_trace=min_trace,
             via_in_pad=g.flags.get("via_in_pad", off),
             impedance_control=np.full(n, bool(self.scenario.lines)))
@@ -257,7 +259,7 @@ class Problem:
 
     def evaluate_geometry(self, g: Geometry, model: str | None = None) -> Evaluation:
         """Every metric and constraint of a batch given as geometry arrays."""
-        n = len(g.depth)
+        n = len(g)
         s, lsum = self.response(g, model)
         att_f = attenuation_db(s)
         att, margin = self.attenuation(att_f)

@@ -140,8 +140,8 @@ class Result:
             ok = rows[self.meets[rows]]
             cheap = (int(ok[np.lexsort((-ev.margin[ok], ev.unit_cost[ok]))[0]])
                      if len(ok) else None)
-            out.append({"top_dielectric": str(name), "er": _num(ev.geometry.ref_er[best]),
-                        "thickness_m": _num(ev.geometry.ref_height[best]),
+            out.append({"top_dielectric": str(name), "er": _num(ev.geometry.trace_er[best]),
+                        "thickness_m": _num(ev.geometry.trace_height[best]),
                         "best_margin_dB": _num(ev.margin[best]), "best_id": self.ids[best],
                         "best_index": best,
                         "cheapest_meeting_id": None if cheap is None else self.ids[cheap],
@@ -189,9 +189,9 @@ class Result:
             "layers": int(g.layers[i]),
             "arrangement": desc["arrangement"],
             "thickness_m": _num(g.thickness[i]),
-            "ground_plane_depth_m": _num(g.depth[i]),
+            "ground_plane_depth_m": _num(g.via_height[i]),
             "top_dielectric": desc["materials"][0],
-            "er_top": _num(g.ref_er[i]),
+            "er_top": _num(g.trace_er[i]),
             "copper_m": _num(desc["copper_m"]),
             "drill_m": _num(desc["drill_m"]),
             "vias_per_ground": int(desc["vias"]),
@@ -229,8 +229,8 @@ class Result:
             "arrangement": arr_names[c.arr],
             "materials": mats,
             "thickness_m": g.thickness,
-            "ground_plane_depth_m": g.depth,
-            "er_top": g.ref_er,
+            "ground_plane_depth_m": g.via_height,
+            "er_top": g.trace_er,
             "copper_m": g.copper,
             "drill_m": g.drill,
             "vias_per_ground": g.vias,

@@ -45,22 +45,11 @@ def stackup_geometry(problem: Problem, sf: SelectedStackup, file: str | None = N
         raise InputError("the stackup has no ground or plane layer for the vias to reach",
                          file=file, key="stackup",
                          fix="give one copper layer role: ground")
-    t = np.array([[d.thickness for d in st.dielectrics]])
-    er = np.array([[d.er for d in st.dielectrics]])
-    ref = st.reference_plane(0)
-    ref_h = st.plane_distance(0)[1] if ref is not None and ref > 0 else st.via_depth(0)
-    above = [d for d in st.dielectrics[: (ref or 1)]]
-    ref_er = sum(d.er * d.thickness for d in above) / sum(d.thickness for d in above)
     flags = {m: np.array([m in sf.mitigations]) for m in problem.space.mitigations}
     for m in sf.mitigations:
         flags.setdefault(m, np.array([True]))
-    return Geometry(
-        layers=np.array([st.n_layers]), slot_t=t, slot_er=er,
-        copper=np.array([st.copper[0].thickness]), thickness=np.array([st.thickness]),
-        depth=np.array([st.via_depth(0)]), ref_height=np.array([ref_h]),
-        ref_er=np.array([ref_er]), min_dielectric=t.min(axis=1),
-        drill=np.array([drill]), vias=np.array([vias]),
-        material_counts=_counts(problem, st, file)[None, :], flags=flags)
+    return Geometry(stack=st.layer_stack, drill=np.array([drill]), vias=np.array([vias]),
+                    material_counts=_counts(problem, st, file)[None, :], flags=flags)
 
 
 def evaluate_stackup(problem: Problem, sf: SelectedStackup, file: str | None = None

@@ -20,9 +20,11 @@ import numpy as np
 
 from stackopt.errors import InputError
 from stackopt.model.construction import Construction, parse_entry, slot_kinds
+from stackopt.model.geometry import LayerStack, role_codes
 from stackopt.model.scenario import MITIGATIONS, Scenario
 
-__all__ = ["Arrangement", "DielectricOptions", "Candidates", "Geometry", "Space", "arrangements"]
+__all__ = ["Arrangement", "DielectricOptions", "Candidates", "Geometry", "Space", "arrangements",
+           "candidate_stackup"]
 
 
 @dataclass(frozen=True)
@@ -61,8 +63,12 @@ class Arrangement:
 
     @property
     def ground(self) -> int:
-        """0-based copper index of the ground plane that the top layer's vias reach."""
-        return next(i for i, r in enumerate(self.roles) if r == "ground")
+        """0-based copper index of the ground plane that the top layer's vias reach
+        (:meth:`stackopt.model.geometry.LayerStack.ground_plane`)."""
+        roles = role_codes(self.roles)[None, :]
+        stack = LayerStack(np.zeros((1, self.n_layers - 1)), np.ones((1, self.n_layers - 1)),
+                           np.ones((1, self.n_layers)), roles)
+        return int(stack.ground_plane(0)[0, 0])
 
     @property
     def genes(self) -> tuple[tuple[int, ...], ...]:
@@ -145,21 +151,63 @@ class Candidates:
 
 @dataclass(frozen=True)
 class Geometry:
-    """Arrays of geometry for a batch (SI units)."""
+    """A batch of N candidates as the physics and the pricing see them (SI units).
 
-    layers: np.ndarray
-    slot_t: np.ndarray  # (N, S) dielectric thickness, 0 where unused
-    slot_er: np.ndarray  # (N, S)
-    copper: np.ndarray  # (N,) copper thickness of every layer
-    thickness: np.ndarray  # (N,) finished thickness
-    depth: np.ndarray  # (N,) top copper to its ground plane: the ground-via height h
-    ref_height: np.ndarray  # (N,) dielectric under the top trace to its nearest plane
-    ref_er: np.ndarray  # (N,)
-    min_dielectric: np.ndarray  # (N,)
-    drill: np.ndarray
-    vias: np.ndarray  # (N,) int
+    Every height comes from :attr:`stack` (:mod:`stackopt.model.geometry`, the one owner of
+    stackup geometry); the properties below only name the ones the search uses.
+    """
+
+    stack: LayerStack  # per-layer arrays of the N stackups
+    drill: np.ndarray  # (N,) m
+    vias: np.ndarray  # (N,) int, vias per ground connection
     material_counts: np.ndarray  # (N, M) plies / cores per catalogue item
     flags: dict[str, np.ndarray] = field(default_factory=dict)  # mitigation -> (N,) bool
+
+    def __len__(self) -> int:
+        return len(self.drill)
+
+    @property
+    def layers(self) -> np.ndarray:
+        """Copper layers (N,)."""
+        return self.stack.n_layers
+
+    @property
+    def copper(self) -> np.ndarray:
+        """Top copper thickness, m (N,)."""
+        return self.stack.copper[:, 0]
+
+    @property
+    def inner_copper(self) -> np.ndarray:
+        """Thickest inner copper (the top copper where there is no inner layer), m (N,)."""
+        inner = self.stack.copper[:, 1:-1]
+        inner = np.where(self.stack.role[:, 1:-1] >= 0, inner, 0.0)
+        thick = inner.max(axis=1, initial=0.0)
+        return np.where(self.stack.n_layers > 2, thick, self.copper)
+
+    @property
+    def thickness(self) -> np.ndarray:
+        """Finished thickness, m (N,)."""
+        return self.stack.thickness
+
+    @property
+    def via_height(self) -> np.ndarray:
+        """Ground-via height from the top copper to its ground plane, m (N,)."""
+        return self.stack.via_height(0)
+
+    @property
+    def trace_height(self) -> np.ndarray:
+        """Dielectric height of the top trace over its reference plane, m (N,)."""
+        return self.stack.trace_height
+
+    @property
+    def trace_er(self) -> np.ndarray:
+        """Dk under the top trace (N,)."""
+        return self.stack.trace_er
+
+    @property
+    def min_dielectric(self) -> np.ndarray:
+        """Thinnest dielectric, m (N,)."""
+        return self.stack.min_dielectric
 
 
 @dataclass(frozen=True)
@@ -229,7 +277,6 @@ class Space:
         """Geometry of a batch; vectorized over candidates (loops over slots only)."""
         n = len(c)
         S = self.n_slots
-        layers = self.layer_counts[c.arr]
         kind_core = np.zeros((len(self.arrangements), S), dtype=bool)
         for i, a in enumerate(self.arrangements):
             kind_core[i, : a.n_layers - 1] = [k == "core" for k in a.slot_kinds]
@@ -250,19 +297,23 @@ class Space:
                 m = mask[:, s]
                 np.add.at(counts, (rows[m], o.material[idx[m, s]]), o.count[idx[m, s]])
         cu = np.asarray(self.copper)[c.copper]
-        thickness = t.sum(axis=1) + layers * cu
-        ground = np.array([a.ground for a in self.arrangements])[c.arr]
-        above = np.arange(S)[None, :] < ground[:, None]
-        depth = (t * above).sum(axis=1) + (ground - 1) * cu
-        t_safe = np.where(used, t, np.inf)
+        role = self.role_codes[c.arr]
+        stack = LayerStack(dielectric=t, er=er, copper=np.where(role >= 0, cu[:, None], 0.0),
+                           role=role)
         return Geometry(
-            layers=layers, slot_t=t, slot_er=er, copper=cu, thickness=thickness,
-            depth=depth, ref_height=t[:, 0], ref_er=er[:, 0],
-            min_dielectric=t_safe.min(axis=1),
-            drill=np.asarray(self.drills)[c.drill], vias=np.asarray(self.vias)[c.vias],
-            material_counts=counts,
+            stack=stack, drill=np.asarray(self.drills)[c.drill],
+            vias=np.asarray(self.vias)[c.vias], material_counts=counts,
             flags={m: c.mit[:, i] for i, m in enumerate(self.mitigations)},
         )
+
+    @cached_property
+    def role_codes(self) -> np.ndarray:
+        """Role code of every copper layer of each arrangement, (arrangements, L); -1
+        below the last layer."""
+        out = np.full((len(self.arrangements), self.n_slots + 1), -1, dtype=np.int64)
+        for i, a in enumerate(self.arrangements):  # a handful of arrangements
+            out[i, : a.n_layers] = role_codes(a.roles)
+        return out
 
     def slot_names(self, c: Candidates) -> np.ndarray:
         """Material name of every dielectric slot, (N, S) object array ('' where unused)."""
@@ -309,61 +360,6 @@ def _resolve(constructions, catalogue: dict[str, DielectricOptions],
             idx.append(int(hit[0]))
         out.append((c.name, c.layers, tuple(idx)))
     return tuple(out)
-
-
-def _gene_bounds(space: Space) -> tuple[np.ndarray, np.ndarray]:
-    k = max(len(o) for o in space.options.values())
-    g = max(len(a.genes) for a in space.arrangements)
-    xu = [len(space.arrangements) - 1, *([k - 1] * g), len(space.copper) - 1,
-          len(space.drills) - 1, len(space.vias) - 1, *([1] * len(space.mitigations))]
-    return np.zeros(len(xu), dtype=np.int64), np.array(xu, dtype=np.int64)
-
-
-def genome_bounds(space: Space) -> tuple[np.ndarray, np.ndarray]:
-    """Inclusive integer bounds of the fixed-length genome used by the evolutionary search:
-    ``[arrangement, gene_0..gene_{G-1}, copper, drill, vias, mitigation bits]``. A gene value
-    ``g`` in ``[0, K-1]`` (K = the largest option count) picks option ``g * n // K`` of a
-    slot kind with ``n`` options, so that neighbouring values are neighbouring thicknesses."""
-    return _gene_bounds(space)
-
-
-def decode_genome(space: Space, x: np.ndarray) -> Candidates:
-    """Decode genomes (N, len(bounds)) into :class:`Candidates` (mirrored slots filled)."""
-    x = np.asarray(np.rint(x), dtype=np.int64)
-    _, xu = _gene_bounds(space)
-    x = np.clip(x, 0, xu)
-    n = len(x)
-    k = int(xu[1]) + 1 if len(xu) > 1 else 1
-    g_max = max(len(a.genes) for a in space.arrangements)
-    arr = x[:, 0]
-    slot = np.full((n, space.n_slots), -1, dtype=np.int64)
-    for ai, a in enumerate(space.arrangements):
-        rows = arr == ai
-        if not rows.any():
-            continue
-        for gi, slots in enumerate(a.genes):
-            n_opt = len(space.options[a.slot_kinds[slots[0]]])
-            opt = (x[rows, 1 + gi] * n_opt) // k
-            for s in slots:
-                slot[rows, s] = opt
-    rest = x[:, 1 + g_max:]
-    return Candidates(arr=arr, slot=slot, copper=rest[:, 0], drill=rest[:, 1],
-                      vias=rest[:, 2], mit=rest[:, 3:].astype(bool))
-
-
-def encode_candidates(space: Space, c: Candidates) -> np.ndarray:
-    """A genome that decodes to ``c`` (used to seed the evolutionary search)."""
-    _, xu = _gene_bounds(space)
-    k = int(xu[1]) + 1
-    g_max = max(len(a.genes) for a in space.arrangements)
-    genes = np.zeros((len(c), g_max), dtype=np.int64)
-    for ai, a in enumerate(space.arrangements):
-        rows = c.arr == ai
-        for gi, slots in enumerate(a.genes):
-            n_opt = len(space.options[a.slot_kinds[slots[0]]])
-            genes[rows, gi] = -((-c.slot[rows, slots[0]] * k) // n_opt)  # ceil
-    return np.column_stack([c.arr, genes, c.copper, c.drill, c.vias,
-                            c.mit.astype(np.int64)])
 
 
 def candidate_stackup(space: Space, c: Candidates, i: int):

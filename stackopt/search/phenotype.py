@@ -1,0 +1,71 @@
+"""The electrical phenotype: what the physics receives, as an integer key per candidate.
+
+The key is built from the fields of the batches the physics actually gets — the circuit's
+:class:`~stackopt.circuit.grounds.GroundBatch` and the line synthesis's :class:`LineBatch`
+— by iterating their dataclass fields, never from a hand-kept list: a field added to
+either batch is in the key by construction. Every float is quantized by :func:`quantize`,
+the same function the exact search uses for its thickness states, so both agree on when
+two stackups are electrically the same.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, fields
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+__all__ = ["QUANTUM", "quantize", "batch_key", "unique_rows", "LineBatch"]
+
+#: Resolution of the key, in SI units: 1 nm for lengths; Dk and the like resolve to 1e-9.
+QUANTUM = 1e-9
+
+
+def quantize(x: ArrayLike) -> np.ndarray:
+    """Integer multiples of :data:`QUANTUM` (floats), or the integers / booleans as they are.
+
+    >>> quantize([0.115e-3, 35e-6]).tolist()
+    [115000, 35000]
+    """
+    a = np.asarray(x)
+    if a.dtype.kind in "biu":
+        return a.astype(np.int64)
+    return np.rint(a.astype(float) * (1.0 / QUANTUM)).astype(np.int64)
+
+
+def batch_key(*batches: object) -> np.ndarray:
+    """One int64 row per candidate from every field of the given dataclass batches (each
+    field an array of N, or (N, k)), each quantized by :func:`quantize`."""
+    cols = []
+    for b in batches:
+        for f in fields(b):  # type: ignore[arg-type]
+            v = getattr(b, f.name)
+            if v is None:
+                continue
+            q = quantize(v)
+            cols.append(q[:, None] if q.ndim == 1 else q.reshape(q.shape[0], -1))
+    return np.concatenate(cols, axis=1)
+
+
+def unique_rows(key: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(index of the first candidate of every distinct key, inverse (N,)) of a key."""
+    if not len(key):
+        return np.zeros(0, dtype=np.int64), np.zeros(0, dtype=np.int64)
+    _, first, inv = np.unique(key, axis=0, return_index=True, return_inverse=True)
+    return first, inv.reshape(-1)
+
+
+@dataclass(frozen=True)
+class LineBatch:
+    """What the width synthesis of a controlled-impedance line on the top layer receives,
+    arrays of N: dielectric height to the reference plane (m), its Dk, copper thickness
+    (m), and whether the line is a grounded coplanar waveguide (a ground pour beside it)."""
+
+    height: np.ndarray
+    er: np.ndarray
+    copper: np.ndarray
+    coplanar: np.ndarray
+
+    def take(self, idx: np.ndarray) -> LineBatch:
+        """The candidates at ``idx``."""
+        return LineBatch(*(getattr(self, f.name)[idx] for f in fields(self)))
