@@ -1,7 +1,10 @@
-"""``stackopt calc line``: impedance of a trace, or the width for a target impedance.
+"""``stackopt calc line``: impedance of a trace or a differential pair, or the width for a
+target impedance; by closed form (default) or by the built-in 2-D field solver.
 
-Prints one JSON object with ``--json`` (keys at least ``z0_ohm``, ``width_m``,
-``eps_eff``; for stripline ``eps_eff`` equals ``er``), otherwise a short table.
+Prints one JSON object with ``--json`` (keys ``z0_ohm``, ``z_odd_ohm``, ``z_even_ohm``,
+``z_diff_ohm``, ``eps_eff``, ``solver``, ``width_m`` …; the pair keys are null for a single
+trace), otherwise a short table. The physics (and scipy) is imported inside
+:func:`compute` only, so that the calculator starts fast.
 """
 
 from __future__ import annotations
@@ -10,21 +13,16 @@ import argparse
 import math
 from typing import Any
 
-import numpy as np
-
 from stackopt.cli.calc import calculator
 from stackopt.cli.options import choice, quantity
 from stackopt.cli.registry import CALCULATORS, help_of
 from stackopt.errors import InputError
 from stackopt.physics.constants import C0
-from stackopt.physics.coplanar import cpwg
-from stackopt.physics.lines import MICROSTRIP_MODELS, microstrip, stripline
-from stackopt.physics.synthesis import line_impedance, synthesize_width
+from stackopt.physics.lines import MICROSTRIP_MODELS
+from stackopt.physics.linetypes import LINE_TYPES, PAIR_TYPES, SOLVERS, STRIPLINE_TYPES
 from stackopt.units import format_quantity
 
-#: Line types this calculator offers.
-LINE_TYPES = ("microstrip", "stripline", "cpwg")
-#: Width search range for --target [m].
+#: Width search range for --target / --target-diff [m].
 WIDTH_RANGE = (10e-6, 50e-3)
 #: Accepted relative permittivity.
 ER_RANGE = (1.0, 20.0)
@@ -34,19 +32,30 @@ examples:
   stackopt calc line --type microstrip --height 1.6mm --er 4.5 --target 50ohm
   stackopt calc line --type microstrip --height 7.5mil --er 4.2 --width 0.35mm --json
   stackopt calc line --type stripline --height 0.4mm --er 4.2 --copper 17um --target 50
+  stackopt calc line --type stripline --height 0.5mm --offset 0.1mm --er 4.2 --target 50
   stackopt calc line --type cpwg --height 0.063in --er 4.5 --gap 0.2mm --target 50
+  stackopt calc line --type diff-microstrip --height 0.1mm --er 4.2 --spacing 0.15mm \\
+      --target-diff 100
+  stackopt calc line --type diff-stripline --height 0.4mm --er 4.2 --width 0.1mm \\
+      --spacing 0.2mm --solver field --json
+  stackopt calc line --type microstrip --height 0.1mm --er 4.2 --width 0.18mm \\
+      --solver field --mask 20um --mask-er 3.5
 
---height is the dielectric from the trace to its plane; for stripline it is the
-plane-to-plane spacing, with the trace midway. Microstrip models: hammerstad-jensen
-(default; Hammerstad & Jensen 1980), ipc-2141 (IPC-2141A closed form, quick, several per
-cent off on thin dielectrics), wheeler (Wheeler 1977). Stripline: Cohn 1954 with
-Wheeler's 1978 thickness correction. CPWG: Ghione & Naldi 1984 (coplanar grounds
-stitched to the plane below). All quasi-static: no dispersion, no loss.
+--height is the dielectric from the trace to its plane; for stripline types it is the
+plane-to-plane spacing, with the trace midway unless --offset moves its centre up (+) or
+down (-). Pairs: --width each trace, --spacing edge to edge; Zdiff = 2 Zodd, Zcommon =
+Zeven / 2; z0 is one trace of the pair alone. Closed forms: microstrip hammerstad-jensen
+(default; Hammerstad & Jensen 1980), ipc-2141 (quick, several per cent off on thin
+dielectrics), wheeler (Wheeler 1977); stripline Cohn 1954 with Wheeler's 1978 thickness
+ratio; cpwg Ghione & Naldi 1984; diff-microstrip Kirschning & Jansen 1984; diff-stripline
+Cohn 1955. --solver field solves the cross-section (finite volumes, about 0.5 % or better;
+docs/models.md) and sizes the width with it; it alone takes a solder mask (--mask). All
+quasi-static: no dispersion, no loss.
 """
 
 
 def _er(text: str) -> float:
-    """Parse ``--er``: a finite number in :data:`ER_RANGE` (argparse ``type=``)."""
+    """Parse a relative permittivity: a finite number in :data:`ER_RANGE`."""
     try:
         x = float(text)
     except ValueError:
@@ -64,15 +73,16 @@ def register(sub: argparse._SubParsersAction) -> None:
     p = sub.add_parser(
         "line", help=help_of("line", CALCULATORS),
         description="Characteristic impedance of a microstrip, stripline or grounded "
-        "coplanar trace from its width, or the width that gives a target impedance. "
-        "Lengths take mm, um, mil, in or bare metres.",
+        "coplanar trace, or the even/odd/differential impedances of an edge-coupled "
+        "pair, from its width; or the width that gives a target impedance. Lengths take "
+        "mm, um, mil, in or bare metres.",
         epilog=EPILOG, formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("--type", required=True, dest="line_type", metavar="TYPE",
                    type=choice(LINE_TYPES, "line type"),
                    help=f"one of {', '.join(LINE_TYPES)}")
     p.add_argument("--height", required=True, metavar="LENGTH",
                    type=quantity("length", "--height"),
-                   help="trace-to-plane dielectric; stripline: plane-to-plane spacing")
+                   help="trace-to-plane dielectric; stripline types: plane-to-plane spacing")
     p.add_argument("--er", required=True, metavar="ER", type=_er,
                    help="relative permittivity of the dielectric (1 to 20)")
     p.add_argument("--copper", default=35e-6, metavar="LENGTH",
@@ -80,130 +90,204 @@ def register(sub: argparse._SubParsersAction) -> None:
                    help="copper thickness, e.g. 35um or 1oz (default: 35 um)")
     size = p.add_mutually_exclusive_group(required=True)
     size.add_argument("--width", metavar="LENGTH", type=quantity("length", "--width"),
-                      help="trace width: give the impedance")
+                      help="trace width (each trace of a pair): give the impedance")
     size.add_argument("--target", metavar="OHM", type=quantity("impedance", "--target"),
-                      help="target impedance: give the width")
+                      help="single-ended target impedance: give the width")
+    size.add_argument("--target-diff", metavar="OHM", dest="target_diff",
+                      type=quantity("impedance", "--target-diff"),
+                      help="differential target (diff- types): give the width for --spacing")
+    p.add_argument("--spacing", metavar="LENGTH", type=quantity("length", "--spacing"),
+                   help="diff- types only (required there): edge-to-edge spacing of the pair")
     p.add_argument("--gap", metavar="LENGTH", type=quantity("length", "--gap"),
                    help="cpwg only (required there): trace edge to coplanar ground copper")
+    p.add_argument("--offset", metavar="LENGTH", type=quantity("length", "--offset",
+                                                               positive=False),
+                   help="stripline types: trace centre above (+) or below (-) the midplane")
     p.add_argument("--model", default=None, metavar="MODEL",
                    type=choice(MICROSTRIP_MODELS, "model"),
                    help=f"microstrip only: {', '.join(MICROSTRIP_MODELS)} "
                    f"(default: {MICROSTRIP_MODELS[0]})")
+    p.add_argument("--solver", default="closed-form", metavar="SOLVER",
+                   type=choice(SOLVERS, "solver"),
+                   help="closed-form (default) or field (the built-in 2-D field solver)")
+    p.add_argument("--mask", default=0.0, metavar="LENGTH",
+                   type=quantity("length", "--mask", positive=False),
+                   help="solder mask thickness over an outer-layer line (--solver field)")
+    p.add_argument("--mask-er", default=3.5, dest="mask_er", metavar="ER", type=_er,
+                   help="solder mask relative permittivity (default 3.5, common practice)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.set_defaults(func=run)
+
+
+def _fail(message: str, key: str, fix: str) -> None:
+    raise InputError(message, key=key, fix=fix)
 
 
 def _check(args: argparse.Namespace) -> None:
     """Cross-option checks argparse cannot do; one-line InputError on failure."""
     kind = args.line_type
+    strip, pair = kind in STRIPLINE_TYPES, kind in PAIR_TYPES
     if args.copper < 0:
-        raise InputError(f"copper thickness {args.copper:g} m is negative", key="--copper",
-                         fix="give 0 or a positive thickness, e.g. 35um")
+        _fail(f"copper thickness {args.copper:g} m is negative", "--copper",
+              "give 0 or a positive thickness, e.g. 35um")
     if kind == "cpwg" and args.gap is None:
-        raise InputError("a cpwg needs the gap to its coplanar ground", key="--gap",
-                         fix="add e.g. --gap 0.2mm")
+        _fail("a cpwg needs the gap to its coplanar ground", "--gap", "add e.g. --gap 0.2mm")
     if kind != "cpwg" and args.gap is not None:
-        raise InputError(f"--gap applies to --type cpwg, not {kind}", key="--gap",
-                         fix="drop --gap or use --type cpwg")
-    if kind != "microstrip" and args.model is not None:
-        raise InputError(f"--model applies to --type microstrip, not {kind}", key="--model",
-                         fix="drop --model")
-    if kind == "stripline" and args.copper >= args.height:
-        raise InputError(
-            f"copper {format_quantity(args.copper, 'length')} does not fit between planes "
-            f"{format_quantity(args.height, 'length')} apart", key="--copper",
-            fix="for stripline --height is the plane-to-plane spacing; give a thinner "
-            "copper or a larger --height")
+        _fail(f"--gap applies to --type cpwg, not {kind}", "--gap",
+              "drop --gap or use --type cpwg")
+    if pair and args.spacing is None:
+        _fail(f"a {kind} pair needs the spacing between its traces", "--spacing",
+              "add e.g. --spacing 0.2mm (edge to edge)")
+    if not pair and args.spacing is not None:
+        _fail(f"--spacing applies to the diff- types, not {kind}", "--spacing",
+              f"drop --spacing or use --type diff-{'stripline' if strip else 'microstrip'}")
+    if pair and args.target is not None:
+        _fail(f"a {kind} pair is sized for its differential impedance", "--target",
+              f"use --target-diff {2 * args.target:g} (Zdiff = 2 Zodd)")
+    if not pair and args.target_diff is not None:
+        _fail(f"--target-diff applies to the diff- types, not {kind}", "--target-diff",
+              "use --target for a single trace")
+    if "microstrip" not in kind and args.model is not None:
+        _fail(f"--model applies to --type microstrip, not {kind}", "--model", "drop --model")
+    if kind == "diff-microstrip" and args.model not in (None, MICROSTRIP_MODELS[0]):
+        _fail("the pair model builds on hammerstad-jensen only", "--model", "drop --model")
+    if not strip and args.offset is not None:
+        _fail(f"--offset applies to the stripline types, not {kind}", "--offset",
+              "drop --offset")
+    if args.mask > 0 and (strip or args.solver != "field"):
+        _fail("a solder mask is modelled by the field solver on outer-layer lines only",
+              "--mask", "add --solver field (microstrip, cpwg, diff-microstrip), or drop "
+              "--mask")
+    if strip:
+        gap = args.height / 2 - abs(args.offset or 0.0) - args.copper / 2
+        if gap <= 0:
+            _fail(f"copper {format_quantity(args.copper, 'length')} at offset "
+                  f"{format_quantity(args.offset or 0.0, 'length')} does not fit between "
+                  f"planes {format_quantity(args.height, 'length')} apart", "--copper",
+                  "for stripline --height is the plane-to-plane spacing; give a thinner "
+                  "copper, a smaller --offset or a larger --height")
+        if pair and args.offset and args.solver != "field":
+            _fail("an off-centre pair has no closed form here", "--offset",
+                  "add --solver field, or drop --offset")
 
 
-def _options(args: argparse.Namespace) -> dict[str, Any]:
-    """Kind-specific keywords for :func:`~stackopt.physics.synthesis.line_impedance`."""
-    if args.line_type == "cpwg":
-        return {"gap": args.gap}
-    if args.line_type == "microstrip":
-        return {"model": args.model or MICROSTRIP_MODELS[0]}
-    return {}
+def _spec(args: argparse.Namespace):
+    from stackopt.physics.linetypes import LineSpec
+
+    kind, t = args.line_type, args.copper
+    if kind in STRIPLINE_TYPES:
+        h = args.height / 2 + (args.offset or 0.0) - t / 2
+        return LineSpec(kind, h, args.er, t, h_above=args.height - h, s=args.spacing)
+    return LineSpec(kind, args.height, args.er, t, s=args.spacing, gap=args.gap,
+                    mask_t=args.mask, mask_er=args.mask_er,
+                    model=args.model or MICROSTRIP_MODELS[0])
 
 
-def _width(args: argparse.Namespace) -> float:
-    """Return the given width, or synthesize one for ``--target`` (InputError if none)."""
+def _width(args: argparse.Namespace, spec) -> float:
+    """Return the given width, or synthesize one for the target (InputError if none)."""
+    import numpy as np
+
+    from stackopt.physics.linetypes import closed_form, line_width
+
     if args.width is not None:
         return args.width
-    kw = _options(args)
-    w, ok = synthesize_width(args.target, args.height, args.er, args.copper,
-                             args.line_type, *WIDTH_RANGE, **kw)
+    target = args.target if args.target is not None else args.target_diff
+    w, ok = line_width(spec, target, *WIDTH_RANGE, solver=args.solver)
     if bool(ok):
         return float(w)
-    z_ends = line_impedance(np.array(WIDTH_RANGE), args.height, args.er, args.copper,
-                            args.line_type, **kw)
+    key = "z_diff" if spec.pair else "z0"
+    z_ends = closed_form(spec, np.array(WIDTH_RANGE))[key]
     lo_w, hi_w = (format_quantity(x, "length") for x in WIDTH_RANGE)
     reach = ", ".join(format_quantity(z, "impedance") for z in z_ends[::-1]
                       if math.isfinite(z)) or "none"
+    option = "--target" if args.target is not None else "--target-diff"
     raise InputError(
-        f"no width from {lo_w} to {hi_w} gives {format_quantity(args.target, 'impedance')} "
-        f"(ends of the range: {reach})", key="--target",
-        fix="change --height or --er, or pick a target inside that range")
+        f"no width from {lo_w} to {hi_w} gives {format_quantity(target, 'impedance')} "
+        f"(ends of the range: {reach})", key=option,
+        fix="change --height, --er or --spacing, or pick a target inside that range")
 
 
 def compute(args: argparse.Namespace) -> dict[str, Any]:
     """Return the calculator's result as a JSON-ready dict (SI units in the key names)."""
+    from stackopt.physics.linetypes import closed_form, field
+
     _check(args)
-    w = _width(args)
-    kind, h, er, t = args.line_type, args.height, args.er, args.copper
-    if kind == "microstrip":
-        z, e = microstrip(w, h, er, t, _options(args)["model"])
-    elif kind == "stripline":
-        z, e = stripline(w, h, er, t), er
+    spec = _spec(args)
+    w = _width(args, spec)
+    if args.solver == "field":
+        modes: dict[str, Any] = field(spec, w)
     else:
-        z, e = cpwg(w, args.gap, h, er, t)
-    z0, eps = float(z), float(e)
+        modes = {k: float(v) for k, v in closed_form(spec, w).items()}
+    z0, eps = modes["z0"], modes["eps_eff"]
     if not math.isfinite(z0) or z0 <= 0:
-        raise InputError(f"the {kind} model gives no impedance for this geometry",
+        raise InputError(f"the {spec.type} model gives no impedance for this geometry",
                          key="--width" if args.width is not None else "--target",
                          fix="check that copper is much thinner than the gap and height")
-    delay = math.sqrt(eps) / C0
-    result: dict[str, Any] = {
-        "type": kind,
-        "model": _options(args).get("model"),
-        "z0_ohm": z0,
-        "width_m": w,
-        "eps_eff": eps,
-        "height_m": h,
-        "er": er,
-        "copper_m": t,
-        "gap_m": args.gap,
-        "target_ohm": args.target,
-        "delay_s_per_m": delay,
-        "inductance_H_per_m": z0 * delay,
-        "capacitance_F_per_m": delay / z0,
+
+    def get(key: str) -> float | None:
+        return modes.get(key) if spec.pair else None
+
+    eps_line = float(modes["eps_odd"] if spec.pair else eps)  # a pair's signal: odd mode
+    delay = math.sqrt(eps_line) / C0
+    z_line = modes["z_odd"] if spec.pair else z0
+    return {
+        "type": spec.type, "solver": args.solver,
+        "model": spec.model if "microstrip" in spec.type and args.solver != "field"
+        else None,
+        "z0_ohm": z0, "z_odd_ohm": get("z_odd"), "z_even_ohm": get("z_even"),
+        "z_diff_ohm": get("z_diff"), "z_common_ohm": get("z_common"),
+        "eps_eff": eps_line, "eps_odd": get("eps_odd"), "eps_even": get("eps_even"),
+        "width_m": w, "spacing_m": args.spacing, "height_m": args.height,
+        "offset_m": args.offset, "er": args.er, "copper_m": args.copper, "gap_m": args.gap,
+        "mask_m": args.mask or None, "mask_er": args.mask_er if args.mask else None,
+        "target_ohm": args.target, "target_diff_ohm": args.target_diff,
+        "field_error": modes.get("error"),
+        "delay_s_per_m": delay, "inductance_H_per_m": z_line * delay,
+        "capacitance_F_per_m": delay / z_line,
     }
-    return result
 
 
 def render(result: dict[str, Any]) -> str:
     """Return the human-readable table for a :func:`compute` result."""
+    imp = (lambda key: format_quantity(result[key], "impedance"))  # noqa: E731
     name = result["type"] + (f" ({result['model']})" if result["model"] else "")
-    height = "plane spacing" if result["type"] == "stripline" else "height"
-    rows = [
-        ("line", name),
-        ("width", format_quantity(result["width_m"], "length")
-         + ("  (for the target)" if result["target_ohm"] is not None else "")),
-        ("impedance", format_quantity(result["z0_ohm"], "impedance")),
-        ("eps_eff", f"{result['eps_eff']:.3f}"),
-        (height, format_quantity(result["height_m"], "length")),
-        ("er", f"{result['er']:g}"),
-        ("copper", format_quantity(result["copper_m"], "length")),
-    ]
+    strip = result["type"] in STRIPLINE_TYPES
+    target = result["target_ohm"] is not None or result["target_diff_ohm"] is not None
+    rows = [("line", name), ("solver", result["solver"]),
+            ("width", format_quantity(result["width_m"], "length")
+             + ("  (for the target)" if target else ""))]
+    if result["z_diff_ohm"] is not None:
+        rows += [("spacing", format_quantity(result["spacing_m"], "length")),
+                 ("Zdiff", imp("z_diff_ohm")), ("Zodd", imp("z_odd_ohm")),
+                 ("Zeven", imp("z_even_ohm")), ("Zcommon", imp("z_common_ohm")),
+                 ("eps_eff odd", f"{result['eps_odd']:.3f}"),
+                 ("eps_eff even", f"{result['eps_even']:.3f}"),
+                 ("Z0 one trace", imp("z0_ohm"))]
+    else:
+        rows += [("impedance", imp("z0_ohm")), ("eps_eff", f"{result['eps_eff']:.3f}")]
+    rows += [("plane spacing" if strip else "height",
+              format_quantity(result["height_m"], "length"))]
+    if result["offset_m"]:
+        rows.append(("offset", format_quantity(result["offset_m"], "length")))
+    rows += [("er", f"{result['er']:g}"), ("copper", format_quantity(result["copper_m"],
+                                                                      "length"))]
     if result["gap_m"] is not None:
         rows.append(("gap", format_quantity(result["gap_m"], "length")))
+    if result["mask_m"]:
+        rows.append(("solder mask", f"{format_quantity(result['mask_m'], 'length')}, "
+                     f"er {result['mask_er']:g}"))
     rows += [
         ("delay", f"{result['delay_s_per_m'] * 1e9:.3g} ps/mm"),
         ("L per length", f"{result['inductance_H_per_m'] * 1e6:.3g} nH/mm"),
         ("C per length", f"{result['capacitance_F_per_m'] * 1e9:.3g} pF/mm"),
     ]
     lines = [f"  {label:<14}{value}" for label, value in rows]
-    lines.append("quasi-static closed form: no dispersion or loss; confirm with the fab's "
-                 "field solver before ordering")
+    if result["solver"] == "field":
+        lines.append(f"2-D quasi-static field solve (grid error below "
+                     f"{100 * result['field_error']:.2g} %): no dispersion or loss")
+    else:
+        lines.append("quasi-static closed form: no dispersion or loss; check with "
+                     "--solver field and confirm with the fab before ordering")
     return "\n".join(lines)
 
 

@@ -7,7 +7,6 @@ conformal-mapping line model. Inputs are SI floats or arrays that broadcast.
 from __future__ import annotations
 
 import numpy as np
-from scipy.special import ellipkm1
 
 from stackopt.physics.constants import ETA0
 
@@ -20,7 +19,10 @@ def elliptic_ratio(k2: np.ndarray, kp2: np.ndarray) -> np.ndarray:
     Both squares are passed so that neither has to be formed as ``1 - x`` (which loses
     all precision near 1). ``scipy.special.ellipkm1(p)`` is :math:`K(m = 1 - p)`, so
     :math:`K(k) = \mathrm{ellipkm1}(k'^2)` and :math:`K(k') = \mathrm{ellipkm1}(k^2)`.
+    (scipy is imported here, not at module level, so that the calculators start fast.)
     """
+    from scipy.special import ellipkm1
+
     return ellipkm1(np.asarray(kp2, float)) / ellipkm1(np.asarray(k2, float))
 
 

@@ -1,0 +1,183 @@
+r"""Every controlled-impedance line type, by closed form or by field solve: one owner.
+
+A line is described by its type and one geometry convention shared by the scenario, the
+search and ``stackopt calc line``: ``h`` is the dielectric from the reference plane to the
+trace's bottom face (Dk ``er``); ``h_above`` (stripline only) from that face to the second
+plane (Dk ``er_above``), so the copper of thickness ``t`` sits inside the upper dielectric;
+``s`` the edge-to-edge spacing of a pair; ``gap`` the coplanar ground gap of a cpwg line;
+``mask_t``/``mask_er`` an optional solder mask over an outer-layer line (field solve only).
+
+Closed forms (vectorized over arrays; the search's workhorse):
+microstrip — Hammerstad & Jensen 1980 (or the other :data:`MICROSTRIP_MODELS`); stripline
+— Cohn 1954 × Wheeler 1978, off-centre by Wadell's parallel combination, two dielectrics
+by the thickness-weighted mean Dk (an approximation the field solve checks); cpwg —
+Ghione & Naldi 1984; diff-microstrip — Kirschning & Jansen 1984; diff-stripline — Cohn
+1955 (centred). Citations and validity: the kernels in :mod:`stackopt.physics`.
+
+The field solver (:mod:`stackopt.physics.fieldlines`) solves one cross-section at a time;
+it takes the two dielectrics, the offset and the solder mask as they are.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any, Literal, get_args
+
+import numpy as np
+
+__all__ = ["LINE_TYPES", "PAIR_TYPES", "SOLVERS", "LineSpec", "closed_form", "field",
+           "line_width"]
+
+LineType = Literal["microstrip", "stripline", "cpwg", "diff-microstrip", "diff-stripline"]
+#: Line type names, as the scenario and ``calc line`` spell them.
+LINE_TYPES: tuple[str, ...] = get_args(LineType)
+#: The edge-coupled (differential) types; their target is Z_diff = 2 Z_odd.
+PAIR_TYPES = frozenset({"diff-microstrip", "diff-stripline"})
+#: Types between two planes (need ``h_above``).
+STRIPLINE_TYPES = frozenset({"stripline", "diff-stripline"})
+#: How a line is solved.
+SOLVERS: tuple[str, ...] = ("closed-form", "field")
+
+
+@dataclass(frozen=True)
+class LineSpec:
+    """A line's type and cross-section but its width [m, -]; see the module docstring.
+
+    Fields may be numpy arrays (one element per candidate) for :func:`closed_form` and
+    :func:`line_width`; :func:`field` wants scalars.
+    """
+
+    type: str
+    h: Any
+    er: Any
+    t: Any = 35e-6
+    h_above: Any = None
+    er_above: Any = None
+    s: Any = None
+    gap: Any = None
+    mask_t: float = 0.0
+    mask_er: float = 3.5
+    model: str = "hammerstad-jensen"
+
+    def __post_init__(self) -> None:
+        if self.type not in LINE_TYPES:
+            raise ValueError(f"unknown line type {self.type!r}; one of {LINE_TYPES}")
+        if (self.type in STRIPLINE_TYPES) != (self.h_above is not None):
+            raise ValueError(f"{self.type} {'needs' if self.h_above is None else 'takes no'}"
+                             " h_above (the dielectric from the trace to the upper plane)")
+        if (self.type in PAIR_TYPES) != (self.s is not None):
+            raise ValueError(f"{self.type}: a spacing s is for the diff- types only")
+        if (self.type == "cpwg") != (self.gap is not None):
+            raise ValueError(f"{self.type}: gap is for cpwg only")
+
+    @property
+    def pair(self) -> bool:
+        """True for a differential (edge-coupled) pair."""
+        return self.type in PAIR_TYPES
+
+    def stripline_equivalent(self) -> tuple[Any, Any, Any]:
+        """``(b, offset, er)`` of the closed forms: plane spacing, trace centre above the
+        midplane, and the thickness-weighted mean Dk of the two dielectrics."""
+        h, ha = np.asarray(self.h, float), np.asarray(self.h_above, float)
+        t = np.asarray(self.t, float)
+        ea = np.asarray(self.er if self.er_above is None else self.er_above, float)
+        b = h + ha
+        return b, h + t / 2.0 - b / 2.0, (np.asarray(self.er, float) * h + ea * ha) / b
+
+
+def closed_form(spec: LineSpec, w) -> dict[str, np.ndarray]:
+    """Closed-form modes of ``spec`` at width ``w`` [m] (arrays broadcast).
+
+    Returns ``z0`` [ohm] and ``eps_eff`` [-] of one trace alone (for a pair: one strip of
+    the pair without its partner), and for pairs ``z_even``, ``z_odd``, ``z_diff``,
+    ``z_common`` [ohm], ``eps_even``, ``eps_odd`` [-]. The closed forms ignore a solder
+    mask. An off-centre pair between planes has no closed form here (NaN modes).
+    """
+    from stackopt.physics.coplanar import cpwg
+    from stackopt.physics.coupled import coupled_microstrip, coupled_stripline
+    from stackopt.physics.lines import microstrip
+    from stackopt.physics.stripline import stripline
+
+    w = np.asarray(w, float)
+    out: dict[str, np.ndarray] = {}
+    if spec.type in STRIPLINE_TYPES:
+        b, off, er = spec.stripline_equivalent()
+        z0 = np.asarray(stripline(w, b, er, spec.t, off), float)
+        out["z0"], out["eps_eff"] = z0, np.broadcast_to(er, z0.shape).astype(float)
+        if spec.pair:
+            m = coupled_stripline(w, spec.s, b, er, spec.t)
+            centred = np.abs(off) <= 1e-9 * b
+            out.update({k: np.where(centred, v, np.nan) for k, v in m.items()})
+            out["eps_even"] = out["eps_odd"] = out["eps_eff"]
+    elif spec.type == "cpwg":
+        out["z0"], out["eps_eff"] = cpwg(w, spec.gap, spec.h, spec.er, spec.t)
+    else:
+        out["z0"], out["eps_eff"] = microstrip(w, spec.h, spec.er, spec.t,
+                                               spec.model)  # type: ignore[arg-type]
+        if spec.pair:
+            out.update(coupled_microstrip(w, spec.s, spec.h, spec.er, spec.t))
+    return {k: np.asarray(v, float) for k, v in out.items()}
+
+
+def _section(spec: LineSpec, w: float, pair: bool = True):
+    from stackopt.physics.fieldlines import Section
+
+    return Section(float(w), float(spec.h), float(spec.er), float(spec.t),
+                   h_above=None if spec.h_above is None else float(spec.h_above),
+                   er_above=None if spec.er_above is None else float(spec.er_above),
+                   top_plane=spec.type in STRIPLINE_TYPES,
+                   s=float(spec.s) if (pair and spec.s is not None) else None,
+                   gap=None if spec.gap is None else float(spec.gap),
+                   mask_t=float(spec.mask_t), mask_er=float(spec.mask_er))
+
+
+def field(spec: LineSpec, w: float, resolution: float = 1.0) -> dict[str, float]:
+    """Field-solved modes of ``spec`` (scalars) at width ``w`` [m]: the keys of
+    :func:`closed_form` plus ``error`` (the solver's error estimate)."""
+    from stackopt.physics.fieldlines import solve_section
+
+    single = solve_section(_section(spec, w, pair=False), resolution)
+    out = {"z0": single["z0"], "eps_eff": single["eps_eff"], "error": single["error"]}
+    if spec.pair:
+        modes = solve_section(_section(spec, w), resolution)
+        out.update({k: v for k, v in modes.items() if k != "unknowns"})
+        out["error"] = max(out["error"], modes["error"])
+    return out
+
+
+def line_width(spec: LineSpec, target, w_min=10e-6, w_max=50e-3,
+               solver: str = "closed-form") -> tuple[np.ndarray, np.ndarray]:
+    """Width [m] at which the line reaches ``target`` [ohm] (Z0; Z_diff for pairs).
+
+    Closed form: vectorized bisection (:func:`~stackopt.physics.synthesis.synthesize_width`)
+    inside ``[w_min, w_max]``. ``solver="field"`` (scalars only) starts there and refines
+    by field solves (:func:`~stackopt.physics.fieldlines.field_width`). Returns
+    ``(width, ok)``; NaN width where no width in range reaches the target.
+    """
+    from stackopt.physics.synthesis import synthesize_width
+
+    if spec.type in STRIPLINE_TYPES:
+        b, off, er = spec.stripline_equivalent()
+        if spec.pair:
+            # the centred Cohn form sizes the pair; an offset pair starts from it too
+            w, ok = synthesize_width(target, b, er, spec.t, "coupled_stripline", w_min,
+                                     w_max, s=spec.s)
+        else:
+            w, ok = synthesize_width(target, b, er, spec.t, "stripline", w_min, w_max,
+                                     offset=off)
+    elif spec.type == "cpwg":
+        w, ok = synthesize_width(target, spec.h, spec.er, spec.t, "cpwg", w_min, w_max,
+                                 gap=spec.gap)
+    elif spec.pair:
+        w, ok = synthesize_width(target, spec.h, spec.er, spec.t, "coupled_microstrip",
+                                 w_min, w_max, s=spec.s)
+    else:
+        w, ok = synthesize_width(target, spec.h, spec.er, spec.t, "microstrip", w_min,
+                                 w_max, model=spec.model)
+    if solver == "closed-form" or not bool(np.all(ok)):
+        return w, ok
+    from stackopt.physics.fieldlines import field_width
+
+    wf, _ = field_width(float(target), _section(spec, float(w)))
+    ok_f = bool(np.isfinite(wf) and w_min <= wf <= w_max)
+    return np.asarray(wf if ok_f else np.nan), np.asarray(ok_f)
