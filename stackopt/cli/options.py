@@ -62,3 +62,14 @@ def count(option: str, lo: int = 1, hi: int = 1000) -> Callable[[str], int]:
 
     parse.__name__ = "count"
     return parse
+
+
+def lot_sizes(text: str) -> tuple[int, ...]:
+    """An argparse ``type=`` for comma-separated lot sizes (``100,1000,10000``): whole
+    numbers of boards, each once (:func:`~stackopt.model.scenario.check_lot_sizes`)."""
+    from stackopt.model.scenario import check_lot_sizes
+
+    try:
+        return check_lot_sizes([t.strip() for t in text.split(",") if t.strip()])
+    except ValueError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from None

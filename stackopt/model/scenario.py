@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import BaseModel, Field, model_validator
+from pydantic import BaseModel, Field, field_validator, model_validator
 
 from stackopt.model.circuit import Circuit
 from stackopt.model.fields import (
@@ -30,6 +30,8 @@ __all__ = [
     "Scenario",
     "MITIGATIONS",
     "Objective",
+    "MAX_QUANTITY",
+    "check_lot_sizes",
 ]
 
 #: Mitigations the search can switch on per candidate.
@@ -39,13 +41,52 @@ Objective = Literal["margin", "attenuation", "inductance"]
 ViaModelName = Literal["goldfarb-pucel", "johnson", "rosa", "image"]
 
 
+#: Largest lot accepted.
+MAX_QUANTITY = 10_000_000
+
+
+def check_lot_sizes(values: object) -> tuple[int, ...]:
+    """Lot sizes for a cost-against-quantity sweep: whole numbers from 1 to
+    :data:`MAX_QUANTITY`, each once, returned ascending.
+
+    Raises
+    ------
+    ValueError
+        ``"message; fix"`` naming the first bad or repeated value.
+    """
+    items = list(values) if isinstance(values, list | tuple) else [values]
+    out = []
+    for v in items:
+        text = str(v).strip()
+        ok = text.isdigit() if isinstance(v, str) else (isinstance(v, int)
+                                                        and not isinstance(v, bool))
+        if not ok or not 1 <= int(text) <= MAX_QUANTITY:
+            raise ValueError(f"{text!r} is not a number of boards; give whole numbers from "
+                             f"1 to {MAX_QUANTITY:,}, e.g. 100,1000,10000")
+        out.append(int(text))
+    if not out:
+        raise ValueError("no lot size given; list one or more, e.g. 100,1000,10000")
+    seen = sorted(out)
+    for a, b in zip(seen, seen[1:], strict=False):
+        if a == b:
+            raise ValueError(f"{a} boards is listed twice; list each lot size once")
+    return tuple(seen)
+
+
 class Board(BaseModel):
-    """The board outline and the order quantity."""
+    """The board outline, the order quantity (the main lot) and, optionally, more lot
+    sizes to price the picks at (``quantities``: cost against quantity)."""
 
     model_config = FROZEN
     width: PositiveLength
     height: PositiveLength
-    quantity: int = Field(gt=0, le=10_000_000)
+    quantity: int = Field(gt=0, le=MAX_QUANTITY)
+    quantities: tuple[int, ...] | None = None
+
+    @field_validator("quantities", mode="before")
+    @classmethod
+    def _lots(cls, v: object) -> object:
+        return None if v is None else check_lot_sizes(v)
 
 
 class Requirement(BaseModel):

@@ -23,8 +23,8 @@ __all__ = ["FILES", "render_all", "write_all"]
 #: The fixed file names, in writing order.
 FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.md",
          "pareto.png", "pareto.svg", "response.png", "stackups.png", "costs.png",
-         "prepregs.png", "mitigations.png", "mitigations.csv", "selected.yaml",
-         "selected.s2p")
+         "prepregs.png", "mitigations.png", "mitigations.csv", "quantities.png",
+         "selected.yaml", "selected.s2p")
 
 
 def _touchstone(result, i: int) -> str:
@@ -40,10 +40,12 @@ def _touchstone(result, i: int) -> str:
     return touchstone_text(f, s[0], pb.compiled.z0, comment=comment)
 
 
-def render_all(result, extra_summary: dict | None = None) -> dict[str, bytes]:
+def render_all(result, extra_summary: dict | None = None, sweep=None) -> dict[str, bytes]:
     """Every output file's bytes, by file name (nothing is written). The mitigation
     files and summary key come only from a design space with two-layer boards
-    (``mitigation_ladder`` is ``null`` otherwise)."""
+    (``mitigation_ladder`` is ``null`` otherwise); ``quantities.png``, the report's cost
+    against quantity and the summary's ``quantity_sweep`` only with a ``sweep``
+    (:class:`~stackopt.analyses.quantities.QuantitySweep`)."""
     from stackopt.analyses.ideal import ideal_ground
     from stackopt.outputs.parallel import render
     from stackopt.outputs.plots import figure_bytes, plot_front, plot_response
@@ -56,6 +58,10 @@ def render_all(result, extra_summary: dict | None = None) -> dict[str, bytes]:
     extra = {**(extra_summary or {}),
              "ideal_ground": ideal_ground(result.problem).to_summary(),
              "mitigation_ladder": ladder.to_summary() if ladder is not None else None}
+    if sweep is not None:
+        from stackopt.outputs.sweep import plot_quantities, sweep_summary
+
+        extra["quantity_sweep"] = sweep_summary(sweep)
     # figures and the large CSV are independent: drawn on every free core (parallel.py)
     def front() -> dict[str, bytes]:  # one figure, PNG first then SVG as in one process
         fig = plot_front(result)
@@ -71,6 +77,8 @@ def render_all(result, extra_summary: dict | None = None) -> dict[str, bytes]:
     }
     if ladder is not None:
         jobs["mitigations"] = lambda: figure_bytes(plot_mitigations(ladder, result), "png")
+    if sweep is not None:
+        jobs["quantities"] = lambda: figure_bytes(plot_quantities(sweep), "png")
     done = render(jobs)  # name -> bytes (a job may give several files)
     out: dict[str, bytes] = {
         "summary.json": summary_json(result, extra).encode("utf-8"),
@@ -81,8 +89,8 @@ def render_all(result, extra_summary: dict | None = None) -> dict[str, bytes]:
     images = done
     if ladder is not None:
         out["mitigations.csv"] = mitigations_csv(ladder).encode("utf-8")
-    out["report.html"] = report_html(result, images).encode("utf-8")
-    out["report.md"] = report_markdown(result, IMAGE_FILES).encode("utf-8")
+    out["report.html"] = report_html(result, images, sweep).encode("utf-8")
+    out["report.md"] = report_markdown(result, IMAGE_FILES, sweep).encode("utf-8")
     for key, name in IMAGE_FILES.items():
         if key in images:
             out[name] = images[key]
@@ -94,7 +102,7 @@ def render_all(result, extra_summary: dict | None = None) -> dict[str, bytes]:
 
 
 def write_all(result, out_dir: str | Path, force: bool = False,
-              extra_summary: dict | None = None) -> list[Path]:
+              extra_summary: dict | None = None, sweep=None) -> list[Path]:
     """Render every output file and write them as one result into ``out_dir``, all or
     nothing (:func:`stackopt.outputs.resultdir.write_result`).
 
@@ -109,6 +117,8 @@ def write_all(result, out_dir: str | Path, force: bool = False,
         not write are kept).
     extra_summary : dict, optional
         Keys added to ``summary.json`` (e.g. input file hashes).
+    sweep : QuantitySweep, optional
+        Cost against quantity (see :func:`render_all`).
 
     Returns
     -------
@@ -122,4 +132,4 @@ def write_all(result, out_dir: str | Path, force: bool = False,
         then as it was.
     """
     prepare_out_dir(out_dir, force)  # before rendering: a refusal costs nothing
-    return write_result(out_dir, render_all(result, extra_summary), force)
+    return write_result(out_dir, render_all(result, extra_summary, sweep), force)

@@ -36,7 +36,7 @@ __all__ = ["report_document", "report_markdown", "report_html", "IMAGE_FILES"]
 #: Image keys and the file names :func:`stackopt.outputs.bundle.write_all` gives them.
 IMAGE_FILES = {"pareto": "pareto.png", "response": "response.png",
                "stackups": "stackups.png", "costs": "costs.png", "prepregs": "prepregs.png",
-               "mitigations": "mitigations.png"}
+               "mitigations": "mitigations.png", "quantities": "quantities.png"}
 _WORDS = {2: "two", 4: "four", 6: "six", 8: "eight", 10: "ten", 12: "twelve"}
 
 
@@ -182,8 +182,9 @@ def picks_table(result) -> tuple:
                       "Lead time", "Top dielectric", "Mitigations"], rows)
 
 
-def report_document(result) -> list[tuple]:
-    """The report's content as plain-text blocks, first screen first."""
+def report_document(result, sweep=None) -> list[tuple]:
+    """The report's content as plain-text blocks, first screen first; ``sweep`` (a
+    :class:`~stackopt.analyses.quantities.QuantitySweep`) adds the cost against quantity."""
     sc = result.problem.scenario
     blocks: list[tuple] = [("h1", f"Stackup decision: {sc.name}")]
     if sc.description:
@@ -207,20 +208,24 @@ def report_document(result) -> list[tuple]:
                ("img", "costs", "Itemised cost per board of the picks."),
                ("img", "prepregs", "Choice of the dielectric under the top copper.")]
     blocks += spread_table(result)
+    if sweep is not None:
+        from stackopt.outputs.sweep import sweep_section
+
+        blocks += sweep_section(sweep)
     blocks += [("h2", "Assumptions"), ("ul", assumptions(result)),
                ("h2", "Cautions"), ("ul", cautions(result))]
     return blocks
 
 
-def report_markdown(result, images: dict[str, str] | None = None) -> str:
+def report_markdown(result, images: dict[str, str] | None = None, sweep=None) -> str:
     """The report as Markdown; ``images`` maps image keys to relative file names
     (default :data:`IMAGE_FILES`, the names written next to ``report.md``)."""
-    return render_markdown(report_document(result),
+    return render_markdown(report_document(result, sweep),
                            IMAGE_FILES if images is None else images)
 
 
-def report_html(result, images: dict[str, bytes] | None = None) -> str:
+def report_html(result, images: dict[str, bytes] | None = None, sweep=None) -> str:
     """The report as one standalone HTML page; ``images`` maps image keys to PNG bytes,
     which are inlined (no image is shown for a missing key)."""
-    return render_html(report_document(result), images,
+    return render_html(report_document(result, sweep), images,
                        title=f"stackopt: {result.problem.scenario.name}")

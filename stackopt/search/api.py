@@ -13,6 +13,7 @@ from stackopt.model.costtable import CostTable
 from stackopt.model.scenario import Scenario
 from stackopt.physics.inductance import VIA_MODELS
 from stackopt.search.exact import exact_candidates, exact_cost
+from stackopt.search.memo import ResponseMemo
 from stackopt.search.problem import Problem
 from stackopt.search.results import Result
 
@@ -65,6 +66,7 @@ def optimize(
     method: Method | None = None,
     budget: int | None = None,
     progress: Callable[[int, int], None] | None = None,
+    memo: ResponseMemo | None = None,
 ) -> Result:
     """Search the scenario's design space priced by ``cost_table``.
 
@@ -81,6 +83,9 @@ def optimize(
         Evaluations for NSGA-II (default: the scenario's ``search.budget``).
     progress
         Called as ``progress(done, total)`` during NSGA-II.
+    memo
+        Circuit responses shared with other searches of the same scenario (other
+        quantities, other fabs): phenotypes it holds are not solved again.
 
     Returns
     -------
@@ -95,7 +100,7 @@ def optimize(
     if method not in ("auto", "exact", "nsga2"):
         raise InputError(f"unknown method {method!r}", key="method",
                          fix="use auto, exact or nsga2")
-    problem = Problem(scenario, cost_table)
+    problem = Problem(scenario, cost_table, memo=memo)
     if not problem.space.arrangements or not problem.space.drills:
         raise InputError("the design space is empty: no layer count or drill of the scenario "
                          "is offered by the fab", key="space",

@@ -9,7 +9,7 @@ candidate is priced.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import cached_property
 from typing import Any
 
@@ -22,10 +22,11 @@ from stackopt.cost import PriceBatch, price
 from stackopt.model.costtable import BoardOrder, CostTable
 from stackopt.model.scenario import Scenario
 from stackopt.physics.synthesis import LineKind, synthesize_width
+from stackopt.search.memo import ResponseMemo
 from stackopt.search.phenotype import LineBatch, batch_key, unique_rows
 from stackopt.search.space import Candidates, DielectricOptions, Geometry, Space
 
-__all__ = ["Problem", "Evaluation", "dielectric_options"]
+__all__ = ["Problem", "Evaluation", "dielectric_options", "min_trace"]
 
 #: Phenotypes solved per circuit call (bounds memory; not a loop over candidates).
 PHENOTYPE_CHUNK = 4096
@@ -61,6 +62,16 @@ def dielectric_options(table: CostTable, max_plies: int) -> dict[str, Dielectric
     return out
 
 
+def min_trace(widths: np.ndarray) -> np.ndarray:
+    """Narrowest controlled-impedance trace of each candidate (N,), m, from the widths
+    (N, lines); NaN where no line has a width (the fab's trace limit then does not apply)."""
+    n = widths.shape[0]
+    with np.errstate(invalid="ignore"):
+        w = np.nanmin(np.where(np.isnan(widths), np.inf, widths), axis=1,
+                      initial=np.inf) if widths.shape[1] else np.full(n, np.nan)
+    return np.where(np.isfinite(w), w, np.nan)
+
+
 @dataclass(frozen=True)
 class Evaluation:
     """Metrics of a batch (arrays over N candidates)."""
@@ -92,10 +103,12 @@ class Evaluation:
 
 @dataclass(frozen=True, eq=False)
 class Problem:
-    """A scenario priced by one fab."""
+    """A scenario priced by one fab; ``memo`` (optional) shares solved responses with
+    other problems of the same circuit (other quantities, other fabs)."""
 
     scenario: Scenario
     table: CostTable
+    memo: ResponseMemo | None = field(default=None, compare=False)
 
     @cached_property
     def space(self) -> Space:
@@ -182,15 +195,26 @@ class Problem:
         batch (the circuit's whole input) and broadcast back."""
         model = model or self.scenario.search.via_model
         gb = self.ground_batch(g)
-        first, inv = unique_rows(batch_key(gb))
+        key = batch_key(gb)
+        first, inv = unique_rows(key)
         s = np.empty((len(first), len(self.freqs), 2, 2), dtype=complex)
         lsum = np.zeros(len(first))
-        for i0 in range(0, len(first), PHENOTYPE_CHUNK):  # chunks bound the memory
-            sub = gb.take(first[i0:i0 + PHENOTYPE_CHUNK])
+        todo = np.arange(len(first))
+        if self.memo is not None:  # copy what another problem of this circuit solved
+            keys = key[first]
+            self.memo.bind(self.scenario.circuit, self.freqs)
+            found, s_known, l_known = self.memo.lookup(model, keys, s.shape[1:])
+            s[found], lsum[found] = s_known, l_known
+            todo = np.flatnonzero(~found)
+        for i0 in range(0, len(todo), PHENOTYPE_CHUNK):  # chunks bound the memory
+            rows = todo[i0:i0 + PHENOTYPE_CHUNK]
+            sub = gb.take(first[rows])
             lmat = ground_inductance_matrix(self.compiled, sub, model)
-            s[i0:i0 + PHENOTYPE_CHUNK] = solve(self.compiled, self.freqs, sub, model, lg=lmat)
+            s[rows] = solve(self.compiled, self.freqs, sub, model, lg=lmat)
             if lmat.shape[-1]:
-                lsum[i0:i0 + PHENOTYPE_CHUNK] = np.trace(lmat, axis1=-2, axis2=-1)
+                lsum[rows] = np.trace(lmat, axis1=-2, axis2=-1)
+        if self.memo is not None:
+            self.memo.store(model, keys[todo], s[todo], lsum[todo])
         return s[inv], lsum[inv]
 
     def attenuation(self, att_f: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -259,16 +283,11 @@ class Problem:
 
     def evaluate_geometry(self, g: Geometry, model: str | None = None) -> Evaluation:
         """Every metric and constraint of a batch given as geometry arrays."""
-        n = len(g)
         s, lsum = self.response(g, model)
         att_f = attenuation_db(s)
         att, margin = self.attenuation(att_f)
         widths = self.line_widths(g)
-        with np.errstate(invalid="ignore"):
-            min_trace = np.nanmin(np.where(np.isnan(widths), np.inf, widths), axis=1,
-                                  initial=np.inf) if widths.shape[1] else np.full(n, np.nan)
-        min_trace = np.where(np.isfinite(min_trace), min_trace, np.nan)
-        pr = price(self.table, self.order, self.price_batch(g, min_trace))
+        pr = price(self.table, self.order, self.price_batch(g, min_trace(widths)))
         viol = dict(pr.violations)
         win = self.scenario.space.thickness
         if win is not None:
