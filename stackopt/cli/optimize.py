@@ -7,9 +7,10 @@ import sys
 from pathlib import Path
 
 from stackopt.cli.common import load_inputs, safe_dirname, table
-from stackopt.cli.options import count
+from stackopt.cli.options import count, lot_sizes
 from stackopt.cli.registry import help_of
 from stackopt.cli.text import say as _say
+from stackopt.errors import InputError
 from stackopt.outputs.facts import money
 
 PICK_LABELS = {
@@ -31,10 +32,19 @@ def register(sub: argparse._SubParsersAction) -> None:
         "cost_tables/volume.yaml --out out/ --force",
         formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("scenario", nargs="?", help="scenario YAML (default: the built-in demo)")
-    p.add_argument("--costs", metavar="TABLE", help="fab cost table YAML (default: the one "
-                   "the scenario names)")
+    p.add_argument("--costs", metavar="TABLE", action="append",
+                   help="fab cost table YAML (default: the one the scenario names); give it "
+                   "again for each further fab to compare the fabs in one run")
+    p.add_argument("--quantities", metavar="N,N,...", type=lot_sizes,
+                   help="also choose the picks at these lot sizes, e.g. 100,1000,10000 "
+                   "(default: the scenario's board.quantities)")
+    p.add_argument("--rate", metavar="A/B=X", action="append", default=[],
+                   help="exchange rate for ranking fabs of different currencies: 1 A costs "
+                   "X B, e.g. USD/EUR=0.92 (repeatable)")
+    p.add_argument("--rates", metavar="FILE", help="exchange rates as YAML "
+                   "('rates: {USD/EUR: 0.92}')")
     p.add_argument("--out", metavar="DIR", help="output folder (default: "
-                   "./stackopt-out/<scenario name>/)")
+                   "./stackopt-out/<scenario name>/, with -<fab> for a --costs table)")
     p.add_argument("--seed", type=count("--seed", 0, 2**31 - 1), help="random seed "
                    "(default: the scenario's)")
     p.add_argument("--method", choices=("auto", "exact", "nsga2"), help="search method "
@@ -70,31 +80,49 @@ class _Bar:
 
 def run(args: argparse.Namespace) -> int:
     """Run the search and write every output file."""
+    costs = args.costs or []
+    if len(costs) > 1:
+        from stackopt.cli.optimize_fabs import run_fabs
+
+        return run_fabs(args)
+    if args.rate or args.rates:
+        raise InputError("--rate and --rates convert between fabs' currencies", key="--rate",
+                         fix="give two or more --costs tables, or leave the rates out")
     import stackopt
+    from stackopt.analyses.quantities import quantity_sweep
     from stackopt.errors import Interrupted
     from stackopt.outputs.bundle import write_all
     from stackopt.outputs.files import prepare_out_dir
     from stackopt.outputs.resultdir import pause_point
+    from stackopt.search.memo import ResponseMemo
 
     out = Path(args.out) if args.out is not None else None
     if out is not None:  # a bad --out is refused before the inputs are even read
         out = prepare_out_dir(out, args.force)
-    inp = load_inputs(args.scenario, args.costs)
+    inp = load_inputs(args.scenario, costs[0] if costs else None)
     if out is None:
-        out = prepare_out_dir(Path("stackopt-out") / safe_dirname(inp.scenario.name),
-                              args.force)
+        out = prepare_out_dir(default_out(inp.scenario.name,
+                                          inp.table.fab if costs else None), args.force)
     say = (lambda *a: None) if args.quiet else _say
     say(f"stackopt: {inp.scenario.name} priced by {inp.table.fab}"
         + (" (built-in demo)" if inp.demo else ""))
+    quantities = args.quantities or inp.scenario.board.quantities
+    memo = ResponseMemo() if quantities else None
     bar = _Bar(not args.quiet)
     try:
         pause_point("search")
         result = stackopt.optimize(inp.scenario, inp.table, seed=args.seed,
-                                   method=args.method, budget=args.budget, progress=bar)
+                                   method=args.method, budget=args.budget, progress=bar,
+                                   memo=memo)
         bar.close()
+        sweep = None
+        if quantities:
+            sweep = quantity_sweep(inp.scenario, inp.table, quantities, seed=args.seed,
+                                   method=args.method, budget=args.budget, memo=memo,
+                                   main=result)
         extra = {"inputs": {"scenario": str(inp.scenario_path.name),
                             "cost_table": str(inp.table_path.name), "sha256": inp.hashes()}}
-        write_all(result, out, force=args.force, extra_summary=extra)
+        write_all(result, out, force=args.force, extra_summary=extra, sweep=sweep)
     except Interrupted as exc:
         bar.close()
         if exc.out is None:
@@ -102,7 +130,26 @@ def run(args: argparse.Namespace) -> int:
         raise
     if args.quiet:
         return 0
-    cur = inp.table.currency
+    say_result(result, say)
+    if sweep is not None:
+        say(sweep_table(sweep))
+    say(f"  report: {out / 'report.html'}")
+    return 0
+
+
+def default_out(scenario_name: str, fab: str | None) -> Path:
+    """``stackopt-out/<scenario>/``, or ``stackopt-out/<scenario>-<fab>/`` for a table
+    given with ``--costs`` (runs against two fabs do not collide)."""
+    name = safe_dirname(scenario_name)
+    if fab is not None:
+        name += "-" + safe_dirname(fab)
+    return Path("stackopt-out") / name
+
+
+def say_result(result, say) -> None:
+    """The search in a few lines: method and counts, the picks, what is missing."""
+    cur = result.problem.table.currency
+    scenario = result.problem.scenario
     say(f"  method {result.method}: {result.space_size:,} stackups in the space, "
         f"{result.evaluated:,} evaluated, {int(result.on_front.sum())} on the front")
     rows = []
@@ -126,10 +173,27 @@ def run(args: argparse.Namespace) -> int:
         for i in result.closest(3):
             rec = result.record(i)
             fails = [f"{r.label} short by {r.min_attenuation - rec['attenuation_dB'][r.key]:.1f} dB"
-                     for r in inp.scenario.requirements
+                     for r in scenario.requirements
                      if rec["attenuation_dB"][r.key] is not None
                      and rec["attenuation_dB"][r.key] < r.min_attenuation]
             say(f"    {rec['id']} ({rec['layers']} layers, {money(rec['unit_cost'], cur)}): "
                 + "; ".join(fails))
-    say(f"  report: {out / 'report.html'}")
-    return 0
+
+
+def sweep_table(sweep) -> str:
+    """The cost against quantity as a short console table (per board; the board id)."""
+    from stackopt.outputs.sweep import SWEEP_PICKS, label, sweep_picks, sweep_sentence
+
+    cur = sweep.currency
+    rows = []
+    for q, r in zip(sweep.quantities, sweep.results, strict=True):
+        p = sweep_picks(r)
+        cells = [f"{q:,}"]
+        for n in SWEEP_PICKS:
+            i = p[n]
+            cells.append("-" if i is None else
+                         f"{money(r.evaluation.unit_cost[i], cur)} ({r.ids[i]})")
+        rows.append(cells)
+    head = ["boards", *(label(n).lower() for n in SWEEP_PICKS)]
+    return ("  cost per board against quantity:\n" + table(rows, head) + "\n  "
+            + sweep_sentence(sweep))

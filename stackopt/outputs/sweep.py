@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 from matplotlib.figure import Figure
+from matplotlib.ticker import FuncFormatter
 
 from stackopt.analyses.quantities import QuantitySweep, quantity_grid, unit_cost_curve
 from stackopt.outputs.facts import PICK_LABELS, money, selected_index
@@ -150,21 +151,22 @@ def sweep_section(sweep: QuantitySweep) -> list[tuple]:
 def plot_quantities(sweep: QuantitySweep) -> Figure:
     """Cost per board against quantity (log x), one line per pick: between the lot sizes
     searched, the board picked at the nearest one re-priced at every quantity, so the
-    price-break steps and the setup's fall show; the searched lots as points."""
+    price-break steps (a break and the lot just below it are both on the curve) and the
+    fall of the set-up per board show; the searched lots as points."""
     fig = new_figure(8.0, 4.8)
     ax = fig.add_subplot()
     cur = sweep.currency
     qs = np.asarray(sweep.quantities, dtype=float)
     table = sweep.results[0].problem.table
     lo, hi = max(1, int(qs[0] / 2)), int(qs[-1] * 2)
-    grid = quantity_grid(lo, hi, table.base_price.quantities)
+    grid = quantity_grid(lo, hi, table.base_price.quantities, n=200)
     near = np.abs(np.log(grid)[:, None] - np.log(qs)[None, :]).argmin(axis=1)
     # one line per distinct sequence of boards (pick names sharing it share the line)
     lines: dict[tuple, list[str]] = {}
     for name in SWEEP_PICKS:
         seq = tuple(sweep_picks(r)[name] for r in sweep.results)
         lines.setdefault(seq, []).append(name)
-    drawn = False
+    drawn: list[float] = []
     for k, (seq, names) in enumerate(lines.items()):
         if all(i is None for i in seq):
             continue
@@ -177,19 +179,22 @@ def plot_quantities(sweep: QuantitySweep) -> Figure:
         pts = [(q, r.evaluation.unit_cost[i]) for q, r, i in
                zip(sweep.quantities, sweep.results, seq, strict=True) if i is not None]
         color = pick_color(k)
-        ax.step(grid, y, where="post", color=color, lw=1.6,
+        ax.plot(grid, y, color=color, lw=1.6,
                 label=plain(" = ".join(label(n) for n in names)))
         ax.plot([p[0] for p in pts], [p[1] for p in pts], "o", color=color, ms=5)
-        drawn = True
-    for b in table.base_price.quantities:
-        if lo < b <= hi:
-            ax.axvline(b, color="0.5", ls=":", lw=0.8)
+        drawn += [float(np.nanmin(y)), float(np.nanmax(y))]
+    breaks = [b for b in table.base_price.quantities if lo < b <= hi]
+    for k, b in enumerate(breaks):
+        ax.axvline(b, color="0.5", ls=":", lw=0.8,
+                   label="price break of the fab" if k == 0 else None)
     ax.set_xscale("log")
     if drawn:
-        ymin, ymax = ax.get_ylim()
-        if ymin > 0 and ymax / ymin > 8:
+        if min(drawn) > 0 and max(drawn) / min(drawn) > 8:  # a wide range: log too
             ax.set_yscale("log")
         ax.legend(loc="upper right")
+    ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:,.0f}"))
+    ax.yaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
+    ax.yaxis.set_minor_formatter(FuncFormatter(lambda v, _: ""))
     ax.set_xlabel("Boards in the lot")
     ax.set_ylabel(f"Cost per board ({plain(cur)})")
     ax.set_title(plain(f"Cost per board against quantity — {table.fab}"))
