@@ -18,7 +18,7 @@ FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.m
 
 @pytest.mark.parametrize("argv", [
     ["--help"], ["optimize", "--help"], ["check", "--help"], ["eval", "--help"],
-    ["calc", "--help"], ["calc", "via", "--help"], ["calc", "line", "--help"],
+    ["calc", "--help"], ["calc", "via", "--help"], ["calc", "line", "--help"], ["fit", "--help"],
 ])
 def test_help_runs_everywhere(argv, capsys):
     with pytest.raises(SystemExit) as info:

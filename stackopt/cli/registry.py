@@ -37,6 +37,8 @@ COMMANDS: dict[str, Command] = {
     "calc": Command("stackopt.cli.calc",
                     "quick calculators: ground via inductance, line impedance",
                     group=True),
+    "fit": Command("stackopt.cli.fit",
+                   "fit a measured coupon's ground inductance; calibrate the via models"),
 }
 
 #: Calculators under ``stackopt calc``.
