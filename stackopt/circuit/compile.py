@@ -9,7 +9,12 @@ frequency), ``l`` the inductance (value, ESL; complex ``L(1 - j/Q)`` for a const
 ``d`` the elastance ``1/C`` (complex ``(1 + j/Q)/C`` for a constant Q). An element whose
 ``gnd`` end goes through a ground connection gets that connection's inductance in series
 (:mod:`stackopt.circuit.grounds`): one *ground terminal* per such element, so that the
-pad node disappears and the topology is the same for shared and own vias.
+pad node disappears and the topology is the same for shared and own vias. A mounted part
+(``mount``) gets its loop inductance over the candidate's plane in series the same way:
+grounded parts on their ground terminal, other parts on a terminal of their own (no
+ground connection, ``terminal_conn == -1``). ``l`` holds ``esl`` (intrinsic) or
+``mounted_esl`` (measured, replaces the mount model). An inductor's ``srf`` becomes a
+capacitor ``<name>.srf`` in parallel with it.
 """
 
 from __future__ import annotations
@@ -21,7 +26,7 @@ import numpy as np
 
 from stackopt.circuit.filters import filter_circuit
 from stackopt.errors import InputError
-from stackopt.model.circuit import GROUND_NODE, Circuit
+from stackopt.model.circuit import GROUND_NODE, Circuit, Element
 
 __all__ = ["CompiledCircuit", "LadderStage", "compile_circuit"]
 
@@ -59,6 +64,7 @@ class CompiledCircuit:
     terminal_element: np.ndarray  # (G,) element of each ground terminal
     terminal_conn: np.ndarray  # (G,) its ground connection
     terminal_rank: np.ndarray  # (G,) 0 for the first element on that connection
+    mount_body: np.ndarray  # (G,3) m: body length, width, thickness; nan = no mount model
     conn_names: tuple[str, ...]
     conn_xy: np.ndarray  # (C, 2) m
     conn_trace_length: np.ndarray  # (C,) m
@@ -76,8 +82,14 @@ class CompiledCircuit:
 
     @property
     def n_terminals(self) -> int:
-        """Number of ground terminals G (elements grounded through a connection)."""
+        """Number of terminals G: elements grounded through a connection, then mounted
+        elements that are not (``terminal_conn == -1``)."""
         return len(self.terminal_element)
+
+    @property
+    def n_ground_terminals(self) -> int:
+        """Number of terminals on a ground connection (they come first)."""
+        return int(np.count_nonzero(self.terminal_conn >= 0))
 
     def impedance(self, freqs: np.ndarray) -> np.ndarray:
         """Element impedances without ground parasitics, shape (F, E) complex [ohm]."""
@@ -86,7 +98,8 @@ class CompiledCircuit:
 
 
 def _values(e) -> tuple[float, complex, complex]:
-    r, l, d = e.esr, complex(e.esl), 0j  # noqa: E741
+    r, d = e.esr, 0j
+    l = complex(e.esl if e.mounted_esl is None else e.mounted_esl)  # noqa: E741
     if e.type == "R":
         r += e.value
     elif e.type == "L":
@@ -139,6 +152,29 @@ def _ladder(a: np.ndarray, b: np.ndarray, zero: np.ndarray, ports: tuple[int, in
     return tuple(stages)
 
 
+nan = float("nan")
+
+
+def _body(e) -> tuple[float, float, float] | None:
+    """Body dimensions of an element's mount model, or None (no mount, or measured)."""
+    return e.mount.body if e.mount is not None and e.mounted_esl is None else None
+
+
+def _with_self_resonance(spec: Circuit) -> Circuit:
+    r"""The circuit with a parallel capacitor ``<name>.srf`` beside every inductor that
+    gives ``srf``: :math:`C_p = 1/((2\pi f_{srf})^2 L)` (the usual one-resonance model
+    of a chip inductor)."""
+    extra = []
+    for e in spec.elements:
+        if e.srf is not None:
+            cp = 1.0 / ((2 * math.pi * e.srf) ** 2 * float(e.value))  # type: ignore[arg-type]
+            extra.append(Element(name=f"{e.name}.srf", type="C", value=cp,
+                                 between=e.between))
+    if not extra:
+        return spec
+    return spec.model_copy(update={"elements": spec.elements + tuple(extra)})
+
+
 def compile_circuit(spec: Circuit) -> CompiledCircuit:
     """Compile a circuit (expanding a ``filter:`` generator) into a :class:`CompiledCircuit`.
 
@@ -153,6 +189,7 @@ def compile_circuit(spec: Circuit) -> CompiledCircuit:
             spec = filter_circuit(spec.filter, spec.z0, spec.input, spec.output)
         except ValueError as exc:
             raise InputError(str(exc), key="circuit.filter") from None
+    spec = _with_self_resonance(spec)
     nodes = [spec.input] + [n for e in spec.elements for n in e.between]
     names = tuple(dict.fromkeys(n for n in nodes if n != GROUND_NODE))
     idx = {n: i for i, n in enumerate(names)}
@@ -176,8 +213,12 @@ def compile_circuit(spec: Circuit) -> CompiledCircuit:
     conns = {g.name: c for c, g in enumerate(spec.grounds)}
     term = [(i, conns[e.ground]) for i, e in enumerate(el) if e.ground is not None]
     rank = [sum(1 for _, c2 in term[:t] if c2 == c) for t, (_, c) in enumerate(term)]
+    mounted = [(i, -1) for i, e in enumerate(el) if e.ground is None and _body(e) is not None]
+    term += mounted
+    rank += [0] * len(mounted)
+    body = np.array([_body(el[i]) or (nan, nan, nan) for i, _ in term],
+                    dtype=float).reshape(-1, 3)
     gr = spec.grounds
-    nan = float("nan")
     ports = (idx[spec.input], idx[spec.output])
     zero = np.array([e.zero_impedance for e in el], dtype=bool)
     return CompiledCircuit(
@@ -190,6 +231,7 @@ def compile_circuit(spec: Circuit) -> CompiledCircuit:
         terminal_element=_frozen(np.array([t[0] for t in term], dtype=int)),
         terminal_conn=_frozen(np.array([t[1] for t in term], dtype=int)),
         terminal_rank=_frozen(np.array(rank, dtype=int)),
+        mount_body=_frozen(body),
         conn_names=tuple(g.name for g in gr),
         conn_xy=_frozen(np.array([g.at for g in gr], dtype=float).reshape(-1, 2)),
         conn_trace_length=_frozen(np.array([g.trace_length for g in gr], dtype=float)),

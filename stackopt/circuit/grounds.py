@@ -50,6 +50,7 @@ from stackopt.circuit.compile import CompiledCircuit
 from stackopt.errors import InputError
 from stackopt.physics.inductance import check_via_model
 from stackopt.physics.lines import pad_trace_inductance
+from stackopt.physics.mounting import mount_height, mounted_inductance
 from stackopt.physics.parallel import (
     guard_coupling,
     parallel_via_inductance,
@@ -57,7 +58,8 @@ from stackopt.physics.parallel import (
     via_mutual_inductance,
 )
 
-__all__ = ["GroundBatch", "ground_inductance_matrix", "DEFAULT_PITCH_DRILLS",
+__all__ = ["GroundBatch", "GroundParts", "ground_parts", "ground_inductance_matrix",
+           "ground_breakdown", "row_axes", "DEFAULT_PITCH_DRILLS",
            "DEFAULT_POUR_GAP", "STITCH_VIAS"]
 
 #: Via pitch, in drills, where a ground connection does not give one (common practice,
@@ -149,53 +151,167 @@ class GroundBatch:
         return GroundBatch(*(getattr(self, f.name)[idx] for f in fields(self)))
 
 
+def row_axes(xy: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Unit row direction ``u`` and normal ``v`` (C, 2) of each connection's via row.
+
+    The row runs across the axis to the nearest other connection (the principal axis of
+    the nearest ones, when several are equally near), so via rows of neighbouring
+    connections stand side by side and never point at each other, and the layout turns
+    with the board: rotating every position rotates every row with it (the result does
+    not depend on how the board is oriented). A lone connection's row runs along x.
+    ``v`` points from the row along that axis, away from the connections' centroid.
+    """
+    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+    c = len(xy)
+    u = np.tile([1.0, 0.0], (c, 1))
+    if c < 2:
+        return u, np.tile([0.0, 1.0], (c, 1))
+    diff = xy[None, :, :] - xy[:, None, :]  # (C, C, 2): from c to every other
+    dist = np.hypot(diff[..., 0], diff[..., 1]) + np.where(np.eye(c, dtype=bool), np.inf, 0)
+    near = dist <= dist.min(axis=1, keepdims=True) * (1 + 1e-9)
+    unit = diff / np.where(np.isfinite(dist), dist, 1.0)[..., None]
+    tensor = np.einsum("ij,ijk,ijl->ikl", near.astype(float), unit, unit)
+    w, vec = np.linalg.eigh(tensor)
+    axis = vec[..., -1]  # principal axis towards the nearest neighbour(s)
+    axis = np.where((w[:, 1] - w[:, 0] > 1e-9 * w[:, 1])[:, None], axis, [0.0, 1.0])
+    away = xy - xy.mean(axis=0)
+    sign = np.where(np.einsum("ik,ik->i", axis, away) < -1e-12 * (np.abs(away).max() + 1),
+                    -1.0, 1.0)
+    v = axis * sign[:, None]
+    u = np.column_stack([v[:, 1], -v[:, 0]])
+    return u, v
+
+
 def _terminal_vias(c: CompiledCircuit, batch: GroundBatch
                    ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """Via centres (N, G, V, 2), mask (N, G, V), count (N, G) and drill (N, G)."""
-    conn = c.terminal_conn
+    """Via centres (N, G, V, 2), mask (N, G, V), count (N, G) and drill (N, G) of the
+    ground terminals (the first ``c.n_ground_terminals``)."""
+    conn = c.terminal_conn[:c.n_ground_terminals]
+    u_c, v_c = row_axes(c.conn_xy)
+    u, v = u_c[conn], v_c[conn]  # (G, 2)
     fixed = c.conn_vias[conn]
     count = np.where(fixed > 0, fixed, batch.vias[:, None])
     drill = np.where(np.isnan(c.conn_drill[conn]), batch.drill[:, None], c.conn_drill[conn])
     pitch = np.where(np.isnan(c.conn_pitch[conn]), DEFAULT_PITCH_DRILLS * drill,
                      c.conn_pitch[conn])
     vmax = int(count.max(initial=1))  # initial: an empty batch (N = 0) is valid
-    xy = np.zeros(count.shape + (vmax, 2))
-    for v in np.unique(count):  # a handful of via counts
-        row = np.zeros(count.shape + (vmax, 2))
-        row[..., :v, :] = row_positions(int(v), pitch)
-        xy = np.where((count == v)[..., None, None], row, xy)
-    for t, cn in enumerate(conn):  # explicit coordinates (a few terminals)
-        off = c.conn_offsets[cn]
-        if off is not None:
-            xy[:, t, :len(off)] = off
+    along = np.zeros(count.shape + (vmax,))  # position along the row, m
+    for k in np.unique(count):  # a handful of via counts
+        row = np.zeros(count.shape + (vmax,))
+        row[..., :k] = row_positions(int(k), pitch)[..., 0]
+        along = np.where((count == k)[..., None], row, along)
     if np.any(batch.coplanar):  # stitching vias one pitch beyond each end of the row
         cop = np.broadcast_to(np.asarray(batch.coplanar)[:, None], count.shape)
         k = np.arange(vmax + STITCH_VIAS)[None, None, :]
         inside = k[..., :vmax] < count[..., None]
-        ext = np.max(np.where(inside, np.abs(xy[..., 0]), 0.0), axis=-1) + pitch
-        xy = np.concatenate([xy, np.zeros(count.shape + (STITCH_VIAS, 2))], axis=-2)
+        ext = np.max(np.where(inside, np.abs(along), 0.0), axis=-1) + pitch
+        along = np.concatenate([along, np.zeros(count.shape + (STITCH_VIAS,))], axis=-1)
         lo = cop[..., None] & (k == count[..., None])
         hi = cop[..., None] & (k == count[..., None] + 1)
-        xy[..., 0] = np.where(lo, -ext[..., None], np.where(hi, ext[..., None], xy[..., 0]))
-        xy[..., 1] = np.where(lo | hi, 0.0, xy[..., 1])
+        along = np.where(lo, -ext[..., None], np.where(hi, ext[..., None], along))
         count = count + STITCH_VIAS * cop
         vmax += STITCH_VIAS
-    shift = np.where(batch.own_landing[:, None], c.terminal_rank[None, :] * pitch, 0.0)
-    xy = xy + c.conn_xy[conn][None, :, None, :]
-    xy[..., 1] += shift[..., None]
+    shift = np.where(batch.own_landing[:, None], c.terminal_rank[None, :len(conn)] * pitch,
+                     0.0)
+    xy = (along[..., None] * u[None, :, None, :] + shift[..., None, None] * v[None, :, None, :]
+          + c.conn_xy[conn][None, :, None, :])
+    for t, cn in enumerate(conn):  # explicit coordinates (a few terminals)
+        off = c.conn_offsets[cn]
+        if off is not None:
+            xy[:, t, :len(off)] = (c.conn_xy[cn] + off
+                                   + shift[:, t, None, None] * v[t][None, None, :])
     mask = np.arange(vmax)[None, None, :] < count[..., None]
     return xy, mask, count, drill
+
+
+@dataclass(frozen=True)
+class GroundParts:
+    """Per-candidate pieces of the terminals' inductance (arrays over N candidates).
+
+    ``via`` and ``trace`` (N, G0) for the ground terminals, ``mount`` (N, G) for every
+    terminal (0 without a mount model), ``matrix`` (N, G, G) the whole partial-inductance
+    matrix, ``guard`` (N,) the smallest mutual scale factor the positive-definite guard
+    applied (1: it did not act; :func:`stackopt.physics.parallel.guard_coupling`).
+    """
+
+    via: np.ndarray
+    trace: np.ndarray
+    mount: np.ndarray
+    matrix: np.ndarray
+    guard: np.ndarray
+
+
+def ground_parts(compiled: CompiledCircuit, batch: GroundBatch, model: str = "goldfarb-pucel",
+                 *, mutual: bool = True) -> GroundParts:
+    """Every terminal's via, trace and mount inductance and the whole matrix.
+
+    See :func:`ground_inductance_matrix` (which returns ``.matrix``).
+    """
+    model = check_via_model(model)
+    n, g, g0 = batch.n, compiled.n_terminals, compiled.n_ground_terminals
+    h = batch.height[:, None]
+    body = compiled.mount_body
+    lmount = np.nan_to_num(mounted_inductance(
+        body[None, :, 0], body[None, :, 1],
+        mount_height(h, batch.copper[:, None], body[None, :, 2])), nan=0.0)
+    lmount = np.broadcast_to(lmount, (n, g))
+    guard = np.ones(n)
+    lvia = np.zeros((n, g0))
+    if g0:
+        xy, mask, count, drill = _terminal_vias(compiled, batch)
+        hb = np.broadcast_to(h, (n, g0))
+        for v in np.unique(count):  # a handful of via counts; each (candidate, terminal) once
+            sel = count == v
+            lvia[sel], a = parallel_via_inductance(hb[sel], drill[sel], xy[sel][:, :v, :],
+                                                   model, with_guard=True)
+            guard_t = np.ones((n, g0))
+            guard_t[sel] = a
+            guard = np.minimum(guard, guard_t.min(axis=1))
+    conn = compiled.terminal_conn[:g0]
+    trace = compiled.conn_trace_length[conn][None, :]
+    bridge = np.minimum(trace, np.asarray(batch.pour_gap)[:, None])  # pad-to-pour
+    length = np.where(batch.via_in_pad[:, None], 0.0,
+                      np.where(np.asarray(batch.coplanar)[:, None], bridge, trace))
+    width = np.nan_to_num(compiled.conn_trace_width[conn], nan=1.0)
+    ltrace = np.where(length > 0, pad_trace_inductance(length, width, h, batch.copper[:, None]),
+                      0.0)
+    self_l = lvia + ltrace
+    same = conn[:, None] == conn[None, :]
+    shared = same[None] & ~batch.own_landing[:, None, None]
+    eye = np.eye(g0, dtype=bool)
+    out = np.where(shared, self_l[:, :, None], 0.0)
+    if mutual and g0 > 1:
+        i, j = np.triu_indices(g0, 1)  # each pair of terminals once
+        diff = xy[:, i, :, None, :] - xy[:, j, None, :, :]
+        s = np.hypot(diff[..., 0], diff[..., 1])  # (N, P, V, V)
+        pair = mask[:, i, :, None] & mask[:, j, None, :]
+        dd = 0.5 * (drill[:, i] + drill[:, j])[..., None, None]
+        m = via_mutual_inductance(h[..., None, None], np.maximum(s, dd))
+        mean = np.zeros((n, g0, g0))
+        mean[:, i, j] = (m * pair).sum(axis=(-1, -2)) / pair.sum(axis=(-1, -2))
+        mean[:, j, i] = mean[:, i, j]
+        # one representative row per shared via (the others repeat it by construction)
+        rep = ~(shared & (np.arange(g0)[None, None, :] < np.arange(g0)[None, :, None])).any(-1)
+        mean, a = guard_coupling(self_l, np.where(shared, 0.0, mean), include=rep)
+        guard = np.minimum(guard, a)
+        out = np.where(shared | eye, out, mean)
+    out = np.where(eye, self_l[:, :, None], out)
+    full = np.zeros((n, g, g))
+    full[:, :g0, :g0] = out
+    full[:, np.arange(g), np.arange(g)] += lmount
+    return GroundParts(via=lvia, trace=ltrace, mount=lmount, matrix=full, guard=guard)
 
 
 def ground_inductance_matrix(compiled: CompiledCircuit, batch: GroundBatch,
                              model: str = "goldfarb-pucel", *, mutual: bool = True
                              ) -> np.ndarray:
-    """Partial-inductance matrix among the ground terminals of every candidate.
+    """Partial-inductance matrix among the terminals of every candidate.
 
     Parameters
     ----------
     compiled : CompiledCircuit
-        The circuit; its ground terminals are the elements grounded through a connection.
+        The circuit; its terminals are the elements grounded through a connection, then
+        the mounted elements that are not.
     batch : GroundBatch
         N candidates.
     model : {"goldfarb-pucel", "johnson", "rosa", "image"}
@@ -207,44 +323,30 @@ def ground_inductance_matrix(compiled: CompiledCircuit, batch: GroundBatch,
     Returns
     -------
     ndarray, shape (N, G, G)
-        Inductance [H]; symmetric. G = ``compiled.n_terminals``.
+        Inductance [H]; symmetric positive (semi)definite. G = ``compiled.n_terminals``.
+        The diagonal holds via + trace + mounted loop; mounted elements without a ground
+        connection have only their mounted loop (and no coupling).
     """
-    model = check_via_model(model)
-    n, g = batch.n, compiled.n_terminals
-    if g == 0:
-        return np.zeros((n, 0, 0))
-    xy, mask, count, drill = _terminal_vias(compiled, batch)
-    h = batch.height[:, None]
-    hb = np.broadcast_to(h, (n, g))
-    lvia = np.zeros((n, g))
-    for v in np.unique(count):  # a handful of via counts; each (candidate, terminal) once
-        sel = count == v
-        lvia[sel] = parallel_via_inductance(hb[sel], drill[sel], xy[sel][:, :v, :], model)
-    conn = compiled.terminal_conn
-    trace = compiled.conn_trace_length[conn][None, :]
-    bridge = np.minimum(trace, np.asarray(batch.pour_gap)[:, None])  # pad-to-pour
-    length = np.where(batch.via_in_pad[:, None], 0.0,
-                      np.where(np.asarray(batch.coplanar)[:, None], bridge, trace))
-    width = np.nan_to_num(compiled.conn_trace_width[conn], nan=1.0)
-    ltrace = np.where(length > 0, pad_trace_inductance(length, width, h, batch.copper[:, None]),
-                      0.0)
-    self_l = lvia + ltrace
-    same = conn[:, None] == conn[None, :]
-    shared = same[None] & ~batch.own_landing[:, None, None]
-    eye = np.eye(g, dtype=bool)
-    out = np.where(shared, self_l[:, :, None], 0.0)
-    if mutual and g > 1:
-        i, j = np.triu_indices(g, 1)  # each pair of terminals once
-        diff = xy[:, i, :, None, :] - xy[:, j, None, :, :]
-        s = np.hypot(diff[..., 0], diff[..., 1])  # (N, P, V, V)
-        pair = mask[:, i, :, None] & mask[:, j, None, :]
-        dd = 0.5 * (drill[:, i] + drill[:, j])[..., None, None]
-        m = via_mutual_inductance(h[..., None, None], np.maximum(s, dd))
-        mean = np.zeros((n, g, g))
-        mean[:, i, j] = (m * pair).sum(axis=(-1, -2)) / pair.sum(axis=(-1, -2))
-        mean[:, j, i] = mean[:, i, j]
-        # one representative row per shared via (the others repeat it by construction)
-        rep = ~(shared & (np.arange(g)[None, None, :] < np.arange(g)[None, :, None])).any(-1)
-        mean, _ = guard_coupling(self_l, np.where(shared, 0.0, mean), include=rep)
-        out = np.where(shared | eye, out, mean)
-    return np.where(eye, self_l[:, :, None], out)
+    return ground_parts(compiled, batch, model, mutual=mutual).matrix
+
+
+def ground_breakdown(compiled: CompiledCircuit, batch: GroundBatch,
+                     model: str = "goldfarb-pucel") -> list[dict[str, np.ndarray]]:
+    """Per ground connection: via, trace and mount inductance and their total (N,) [H].
+
+    ``via_H`` and ``trace_H`` are those of the connection's first element (every element
+    on a shared connection sees the same), ``mount_H`` the sum of the mounted loops of
+    the parts grounded on it, ``total_H`` the sum of the three. Mutual terms are not in
+    these numbers (they are in the matrix the solver uses).
+    """
+    p = ground_parts(compiled, batch, model)
+    g0 = compiled.n_ground_terminals
+    conn = compiled.terminal_conn[:g0]
+    out = []
+    for ci, name in enumerate(compiled.conn_names):  # a handful of connections
+        ts = np.flatnonzero(conn == ci)
+        via, trace = p.via[:, ts[0]], p.trace[:, ts[0]]
+        mount = p.mount[:, ts].sum(axis=1)
+        out.append({"name": name, "via_H": via, "trace_H": trace, "mount_H": mount,
+                    "total_H": via + trace + mount})
+    return out

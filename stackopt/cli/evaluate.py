@@ -37,12 +37,21 @@ def run(args: argparse.Namespace) -> int:
     sf = load_selected(args.stackup)
     problem = Problem(inp.scenario, inp.table)
     ev = evaluate_stackup(problem, sf, args.stackup)
+    from stackopt.circuit.grounds import ground_breakdown, ground_parts
+
     g = ev.geometry
     sc = inp.scenario
+    gb = problem.ground_batch(g)
+    grounds = [{k: (v if k == "name" else float(v[0])) for k, v in row.items()}
+               for row in ground_breakdown(problem.compiled, gb, sc.search.via_model)]
+    guard = float(ground_parts(problem.compiled, gb, sc.search.via_model).guard[0])
     out: dict[str, Any] = {
         "layers": int(g.layers[0]), "thickness_m": float(g.thickness[0]),
         "ground_plane_depth_m": float(g.via_height[0]),
         "ground_inductance_H": float(ev.inductance[0]),
+        "grounds": grounds,
+        "mutual_guard_active": guard < 1.0,
+        "placement_notes": list(problem.placed[1]),
         "attenuation_dB": {r.key: float(ev.attenuation[0, k])
                            for k, r in enumerate(sc.requirements)},
         "margin_dB": float(ev.margin[0]),
@@ -63,6 +72,16 @@ def run(args: argparse.Namespace) -> int:
           f"{fq(out['ground_plane_depth_m'], 'length')} under the top")
     say(f"ground connections: {fq(out['ground_inductance_H'], 'inductance')} in all "
           f"({inp.scenario.search.via_model})")
+    if grounds:
+        say(table([[r["name"]] + [fq(r[k], "inductance") for k in
+                                  ("via_H", "trace_H", "mount_H", "total_H")]
+                   for r in grounds], ["ground", "vias", "pad trace", "mounted parts",
+                                       "total"]))
+    if out["mutual_guard_active"]:
+        say("note: the via model's self terms are small next to the image-theory mutuals "
+            "here; the mutual terms were scaled down to keep the inductance matrix passive")
+    for note in out["placement_notes"]:
+        say("note: " + note)
     rows = [[r.label, f"{ev.attenuation[0, k]:.1f} dB", f">= {r.min_attenuation:g} dB"]
             for k, r in enumerate(sc.requirements)]
     if rows:

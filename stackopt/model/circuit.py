@@ -30,9 +30,10 @@ from stackopt.model.fields import (
     PositiveLength,
     Resistance,
 )
+from stackopt.physics.mounting import SIZE_CODES
 from stackopt.units import parse_quantity
 
-__all__ = ["GROUND_NODE", "Parasitics", "Element", "GroundGeometry", "Ground", "Coupling",
+__all__ = ["GROUND_NODE", "Mount", "Parasitics", "Element", "GroundGeometry", "Ground", "Coupling",
            "FilterSpec", "Circuit"]
 
 #: The reserved name of the reference (ground) node.
@@ -44,11 +45,59 @@ _DIM = {"R": "impedance", "L": "inductance", "C": "capacitance"}
 _EXAMPLE = {"R": "10 ohm", "L": "12 nH", "C": "3.9 pF"}
 
 
+class Mount(BaseModel):
+    """How a two-terminal part sits on the board: an EIA size code (``size: 0402``, body
+    dimensions from :data:`stackopt.physics.mounting.SIZE_CODES`) or its body ``length``,
+    ``width`` and ``thickness``. Its loop over the candidate's plane adds a mounted
+    inductance (:func:`stackopt.physics.mounting.mounted_inductance`)."""
+
+    model_config = FROZEN
+    size: str | None = None
+    length: PositiveLength | None = None
+    width: PositiveLength | None = None
+    thickness: PositiveLength | None = None
+
+    @model_validator(mode="before")
+    @classmethod
+    def _code(cls, data: Any) -> Any:
+        if isinstance(data, int | str):  # mount: 0402 (YAML may read it as a number)
+            data = {"size": f"{data:04d}" if isinstance(data, int) else data}
+        return data
+
+    @model_validator(mode="after")
+    def _dims(self) -> Mount:
+        codes = ", ".join(SIZE_CODES)
+        if self.size is not None:
+            if self.size not in SIZE_CODES:
+                raise ValueError(f"unknown part size {self.size!r}"
+                                 f"{did_you_mean(self.size, list(SIZE_CODES))}; use one of "
+                                 f"{codes}, or give length, width and thickness")
+            if any(v is not None for v in (self.length, self.width, self.thickness)):
+                raise ValueError("give either a size code or length/width/thickness, "
+                                 "not both")
+        elif None in (self.length, self.width, self.thickness):
+            raise ValueError(f"a mount needs 'size' ({codes}) or all of length, width "
+                             "and thickness (e.g. 1.0 mm, 0.5 mm, 0.5 mm)")
+        return self
+
+    @property
+    def body(self) -> tuple[float, float, float]:
+        """Body length, width, thickness [m]."""
+        if self.size is not None:
+            return SIZE_CODES[self.size]
+        return (float(self.length), float(self.width), float(self.thickness))  # type: ignore[arg-type]
+
+
 class Parasitics(BaseModel):
-    """Series parasitics of a part: ESL, ESR and a quality factor.
+    """Series parasitics of a part: ESL, ESR, a quality factor, its mount and, for an
+    inductor, its self-resonance.
 
     ``q`` with ``q_at``: a fixed series resistance that gives that Q at ``q_at``.
-    ``q`` alone: the same Q at every frequency.
+    ``q`` alone: the same Q at every frequency. ``esl`` is the part's *intrinsic*
+    inductance (the body alone); with ``mount`` the loop over the candidate's plane is
+    added per stackup. ``mounted_esl`` is a *measured* mounted value: it replaces both
+    ``esl`` and the mount model (the board no longer changes it). ``srf`` (inductors): the
+    self-resonant frequency, modelled as a capacitance ``1/((2 pi srf)^2 L)`` in parallel.
     """
 
     model_config = FROZEN
@@ -56,11 +105,17 @@ class Parasitics(BaseModel):
     esr: Resistance = 0.0
     q: PositiveFloat | None = None
     q_at: Frequency | None = None
+    mount: Mount | None = None
+    mounted_esl: Inductance | None = None
+    srf: Frequency | None = None
 
     @model_validator(mode="after")
     def _q(self) -> Parasitics:
         if self.q_at is not None and self.q is None:
             raise ValueError("'q_at' without 'q'; give the quality factor as 'q: 40'")
+        if self.mounted_esl is not None and (self.mount is not None or self.esl):
+            raise ValueError("'mounted_esl' (a measured mounted value) replaces 'esl' and "
+                             "'mount'; give one or the other")
         return self
 
 
@@ -92,6 +147,8 @@ class Element(Parasitics):
             raise ValueError(f"capacitor {n} is 0 F (an open circuit); remove it or give {ex}")
         if self.type == "R" and self.q is not None:
             raise ValueError(f"resistor {n} cannot have 'q'; use 'esl' for its inductance")
+        if self.srf is not None and (self.type != "L" or not self.value):
+            raise ValueError(f"element {n}: 'srf' is for inductors with a value; remove it")
         if self.between[0] == self.between[1]:
             raise ValueError(f"element {n} has both ends on node {self.between[0]!r}; "
                              "connect it between two different nodes")
@@ -159,23 +216,41 @@ class Coupling(BaseModel):
 
 
 class FilterSpec(BaseModel):
-    """A Butterworth or Chebyshev ladder from its prototype values (generator)."""
+    """A Butterworth, Chebyshev or elliptic (Cauer) ladder (generator)."""
 
     model_config = FROZEN
-    family: Literal["butterworth", "chebyshev"]
+    family: Literal["butterworth", "chebyshev", "elliptic"]
     response: Literal["lowpass", "highpass"] = "lowpass"
     order: int = Field(ge=1, le=15)
     cutoff: Frequency
-    ripple: Decibel | None = Field(None, description="Chebyshev passband ripple, dB")
+    ripple: Decibel | None = Field(None, description="Chebyshev/elliptic passband ripple, dB")
+    stopband_attenuation: Decibel | None = Field(None, description="elliptic: minimum "
+                                                 "stopband attenuation, dB")
     first: Literal["shunt", "series"] = "shunt"
     ground: GroundGeometry | None = Field(None, description="template for every shunt "
                                           "element's own ground connection; none = ideal")
     spacing: PositiveLength = Field(3e-3, description="distance between ground connections")
     capacitor: Parasitics = Parasitics()
     inductor: Parasitics = Parasitics()
+    coupling: float = Field(0.0, gt=-0.5, lt=0.5, description="magnetic coupling k "
+                            "between neighbouring generated inductors")
 
     @model_validator(mode="after")
     def _family(self) -> FilterSpec:
+        if self.family == "elliptic":
+            if self.order % 2 == 0 or not 3 <= self.order <= 11:
+                raise ValueError(f"an elliptic ladder here has an odd order from 3 to 11 "
+                                 f"(got {self.order}); even orders need unequal "
+                                 "terminations: use 3, 5, 7, 9 or 11")
+            if self.ripple is None or not 0 < self.ripple <= 3:
+                raise ValueError("an elliptic filter needs 'ripple' between 0 and 3 dB "
+                                 "(e.g. 0.1 dB)")
+            if self.stopband_attenuation is None or self.stopband_attenuation <= self.ripple:
+                raise ValueError("an elliptic filter needs 'stopband_attenuation' above its "
+                                 "ripple (e.g. 50 dB)")
+            return self
+        if self.stopband_attenuation is not None:
+            raise ValueError("'stopband_attenuation' is for elliptic filters; remove it")
         if self.family == "chebyshev":
             if self.ripple is None or not 0 < self.ripple <= 3:
                 raise ValueError("a Chebyshev filter needs 'ripple' between 0 and 3 dB "

@@ -15,7 +15,7 @@ from typing import Any
 
 import numpy as np
 
-from stackopt.circuit import GroundBatch, compile_circuit, ground_inductance_matrix, solve
+from stackopt.circuit import GroundBatch, ground_inductance_matrix, solve
 from stackopt.circuit.grounds import DEFAULT_POUR_GAP
 from stackopt.circuit.metrics import attenuation_db
 from stackopt.cost import PriceBatch, price
@@ -129,9 +129,20 @@ class Problem:
         return BoardOrder(width=b.width, height=b.height, quantity=b.quantity)
 
     @cached_property
+    def placed(self):
+        """(compiled circuit, placement notes): the scenario's circuit compiled once, its
+        via placement checked for the largest drill and via count of the space against the
+        fab's minimum spacing (:func:`stackopt.circuit.placement.place_circuit`)."""
+        from stackopt.circuit.placement import place_circuit
+
+        sp = self.space
+        return place_circuit(self.scenario.circuit, max(sp.drills), max(sp.vias),
+                             self.table.capabilities.min_space)
+
+    @property
     def compiled(self):
-        """The scenario's circuit, compiled once."""
-        return compile_circuit(self.scenario.circuit)
+        """The scenario's circuit, compiled once (see :attr:`placed`)."""
+        return self.placed[0]
 
     @cached_property
     def freqs(self) -> np.ndarray:
