@@ -214,51 +214,59 @@ class Result:
 
     @cached_property
     def table(self) -> pd.DataFrame:
-        """Every evaluated candidate, one row each, with every metric and the front flag."""
+        """Every evaluated candidate, one row each, with every metric and the front flag
+        (the whole :meth:`frame`; writers of large results take it in row blocks)."""
+        return self.frame()
+
+    def frame(self, rows: np.ndarray | None = None) -> pd.DataFrame:
+        """The rows ``rows`` (default: all) of the table of candidates; only those rows'
+        strings are built, so a large result can be written in bounded blocks."""
+        rows = np.arange(self.n) if rows is None else np.asarray(rows, dtype=np.int64)
         ev, g, sc, sp = self.evaluation, self.evaluation.geometry, self.problem.scenario, \
             self.problem.space
-        c = self.candidates
+        c = self.candidates.take(rows)
         arr_names = np.array([a.name for a in sp.arrangements])
         names = sp.slot_names(c)
-        rows, inv = np.unique(names.astype(str), axis=0, return_inverse=True)
-        mats = np.array([" / ".join(x for x in r if x) for r in rows], dtype=object)[
+        uniq, inv = np.unique(names.astype(str), axis=0, return_inverse=True)
+        mats = np.array([" / ".join(x for x in r if x) for r in uniq], dtype=object)[
             inv.reshape(-1)]
         cols: dict[str, object] = {
-            "id": self.ids,
-            "layers": g.layers,
+            "id": np.char.mod("C%05d", rows + 1).astype(object),
+            "layers": g.layers[rows],
             "arrangement": arr_names[c.arr],
             "materials": mats,
-            "thickness_m": g.thickness,
-            "ground_plane_depth_m": g.via_height,
-            "er_top": g.trace_er,
-            "copper_m": g.copper,
-            "drill_m": g.drill,
-            "vias_per_ground": g.vias,
+            "thickness_m": g.thickness[rows],
+            "ground_plane_depth_m": g.via_height[rows],
+            "er_top": g.trace_er[rows],
+            "copper_m": g.copper[rows],
+            "drill_m": g.drill[rows],
+            "vias_per_ground": g.vias[rows],
         }
         for m in sp.mitigations:
-            cols[m] = g.flags[m]
+            cols[m] = g.flags[m][rows]
         cols.update({
-            "unit_cost": ev.unit_cost, "lot_cost": ev.lot_cost,
-            "lead_time_days": ev.lead_time_days, "margin_dB": ev.margin,
-            "ground_inductance_H": ev.inductance,
+            "unit_cost": ev.unit_cost[rows], "lot_cost": ev.lot_cost[rows],
+            "lead_time_days": ev.lead_time_days[rows], "margin_dB": ev.margin[rows],
+            "ground_inductance_H": ev.inductance[rows],
         })
         for k, r in enumerate(sc.requirements):
-            cols[f"attenuation_dB_{r.key}Hz"] = ev.attenuation[:, k]
+            cols[f"attenuation_dB_{r.key}Hz"] = ev.attenuation[rows, k]
         for j, ln in enumerate(sc.lines):
-            cols[f"width_{ln.name}_m"] = ev.widths[:, j]
-        cols["feasible"] = self.feasible
-        cols["meets_requirements"] = self.meets
-        cols["violations"] = self._violation_text()
-        cols["on_front"] = self.on_front
+            cols[f"width_{ln.name}_m"] = ev.widths[rows, j]
+        cols["feasible"] = self.feasible[rows]
+        cols["meets_requirements"] = self.meets[rows]
+        cols["violations"] = self._violation_text(rows)
+        cols["on_front"] = self.on_front[rows]
         return pd.DataFrame(cols)
 
-    def _violation_text(self) -> np.ndarray:
-        """The constraints each candidate violates, as text (vectorized over candidates)."""
+    def _violation_text(self, rows: np.ndarray) -> np.ndarray:
+        """The constraints each of ``rows`` violates, as text (vectorized over rows)."""
+        viol = {k: v[rows] for k, v in self.evaluation.violations.items()}
         parts = [np.where(v > 0, np.char.add(np.char.add(f"{k} (+", np.char.mod("%.3g", v)),
                                              ")"), "")
-                 for k, v in self.evaluation.violations.items()]
+                 for k, v in viol.items()]
         if not parts:
-            return np.full(self.n, "", dtype=object)
+            return np.full(len(rows), "", dtype=object)
         text = parts[0].astype(object)
         for p in parts[1:]:
             sep = np.where((text != "") & (p != ""), "; ", "")
