@@ -64,7 +64,13 @@ def _column(values: np.ndarray) -> tuple[str, list]:
         return "%d", values.tolist()
     if kind == "b":
         return "%s", np.where(values, "True", "False").tolist()
-    return "%s", [_cell(v) for v in values.tolist()]
+    codes, uniques = pd.factorize(values, use_na_sentinel=False)
+    u = pd.Series(uniques, dtype=object)
+    plain = (u.map(type) == str) & ~u.str.contains(r'[,"\n\r]', regex=True, na=True) \
+        & ~u.str.startswith(_TRIGGERS, na=True)  # most cells: written as they are
+    cells = np.array([v if ok else _cell(v) for v, ok in zip(u.tolist(), plain.tolist())],
+                     dtype=object)
+    return "%s", cells[codes].tolist()  # each distinct text handled once
 
 
 def _csv(df: pd.DataFrame, header: bool = True) -> str:

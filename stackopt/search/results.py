@@ -226,9 +226,11 @@ class Result:
             self.problem.space
         c = self.candidates.take(rows)
         arr_names = np.array([a.name for a in sp.arrangements])
-        names = sp.slot_names(c)
-        uniq, inv = np.unique(names.astype(str), axis=0, return_inverse=True)
-        mats = np.array([" / ".join(x for x in r if x) for r in uniq], dtype=object)[
+        # materials text built once per distinct build (arrangement + slot options)
+        _, first, inv = np.unique(np.column_stack([c.arr, c.slot]), axis=0,
+                                  return_index=True, return_inverse=True)
+        names = sp.slot_names(c.take(first))
+        mats = np.array([" / ".join(x for x in r if x) for r in names], dtype=object)[
             inv.reshape(-1)]
         cols: dict[str, object] = {
             "id": np.char.mod("C%05d", rows + 1).astype(object),
@@ -260,17 +262,15 @@ class Result:
         return pd.DataFrame(cols)
 
     def _violation_text(self, rows: np.ndarray) -> np.ndarray:
-        """The constraints each of ``rows`` violates, as text (vectorized over rows)."""
-        viol = {k: v[rows] for k, v in self.evaluation.violations.items()}
-        parts = [np.where(v > 0, np.char.add(np.char.add(f"{k} (+", np.char.mod("%.3g", v)),
-                                             ")"), "")
-                 for k, v in viol.items()]
-        if not parts:
-            return np.full(len(rows), "", dtype=object)
-        text = parts[0].astype(object)
-        for p in parts[1:]:
-            sep = np.where((text != "") & (p != ""), "; ", "")
-            text = text + sep + p.astype(object)
+        """The constraints each of ``rows`` violates, as text; strings are built only for
+        the rows that violate something."""
+        text = np.full(len(rows), "", dtype=object)
+        for k, v in self.evaluation.violations.items():
+            hit = np.flatnonzero(v[rows] > 0)
+            if not len(hit):
+                continue
+            new = [f"{k} (+{x:.3g})" for x in v[rows[hit]].tolist()]
+            text[hit] = [f"{a}; {b}" if a else b for a, b in zip(text[hit].tolist(), new)]
         return text
 
     def to_summary(self, extra: dict | None = None) -> dict:
