@@ -98,7 +98,7 @@ def test_tube_vectorized():
 
 @settings(max_examples=60, deadline=None)
 @given(n=st.integers(2, 7), h=st.floats(0.03, 2.0), d=st.floats(0.1, 0.5),
-       seed=st.integers(0, 2**31), model=st.sampled_from(ind.VIA_MODELS))
+       seed=st.integers(0, 2**31), model=st.sampled_from(tuple(ind.VIA_MODELS)))
 def test_random_layouts_symmetric_positive_definite(n, h, d, seed, model):
     # Issue contract: the inductance matrix of random via layouts is SPD for every model
     # (with the guard where the model's self term is small next to the image mutual).

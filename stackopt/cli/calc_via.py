@@ -18,6 +18,7 @@ from stackopt.cli.options import choice, count, quantity
 from stackopt.cli.registry import CALCULATORS, help_of
 from stackopt.errors import InputError, ModelError
 from stackopt.physics.inductance import (
+    DEFAULT_VIA_MODEL,
     GOLDFARB_PUCEL_FIT_RANGE,
     VIA_MODELS,
     goldfarb_pucel_in_range,
@@ -54,7 +55,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--drill", required=True, metavar="LENGTH",
                    type=quantity("length", "--drill"),
                    help="plated barrel diameter, e.g. 0.3mm")
-    p.add_argument("--model", default=VIA_MODELS[0], metavar="MODEL",
+    p.add_argument("--model", default=DEFAULT_VIA_MODEL, metavar="MODEL",
                    type=choice(VIA_MODELS, "model"),
                    help=f"one of {', '.join(VIA_MODELS)} (default: %(default)s)")
     p.add_argument("--count", default=1, metavar="N", type=count("--count", 1, 100),

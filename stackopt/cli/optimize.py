@@ -12,13 +12,7 @@ from stackopt.cli.registry import help_of
 from stackopt.cli.text import say as _say
 from stackopt.errors import InputError
 from stackopt.outputs.facts import money
-
-PICK_LABELS = {
-    "cheapest_meeting_requirements": "cheapest meeting requirements",
-    "cheapest_two_layer": "cheapest two-layer",
-    "best_two_layer": "best two-layer",
-    "best_overall": "best overall",
-}
+from stackopt.search.picks import PICKS
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -153,7 +147,8 @@ def say_result(result, say) -> None:
     say(f"  method {result.method}: {result.space_size:,} stackups in the space, "
         f"{result.evaluated:,} evaluated, {int(result.on_front.sum())} on the front")
     rows = []
-    for key, label in PICK_LABELS.items():
+    for key, pick in PICKS.items():
+        label = pick.console
         i = result.picks[key]
         if i is None:
             rows.append([label, "-", "-", "-", "-", "none"])

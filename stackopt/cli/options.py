@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import argparse
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Collection
 
 from stackopt.errors import UnitError, did_you_mean
 from stackopt.units import Dimension, parse_quantity
@@ -30,7 +30,7 @@ def quantity(dim: Dimension, option: str, *, positive: bool = True) -> Callable[
     return parse
 
 
-def choice(names: Sequence[str], what: str) -> Callable[[str], str]:
+def choice(names: Collection[str], what: str) -> Callable[[str], str]:
     """An argparse ``type=`` accepting one of ``names`` (the error lists them, with a
     did-you-mean); ``what`` names the option's value in the message (``"model"``)."""
 

@@ -21,7 +21,7 @@ from pathlib import Path
 from stackopt.errors import InputError, did_you_mean
 from stackopt.inputs.validate import validate_model
 from stackopt.inputs.yamlio import Document, load_yaml, parse_yaml_text
-from stackopt.model.scenario import MITIGATIONS
+from stackopt.model.mitigations import MITIGATIONS, mitigation_error
 from stackopt.model.stackup import Copper, Dielectric, Stackup
 from stackopt.units import parse_quantity
 
@@ -117,9 +117,10 @@ def parse_selected(doc: Document) -> SelectedStackup:
         raise doc.error("mitigations must be a list of names", ["mitigations"],
                         fix="e.g. [via_in_pad]")
     for k, m in enumerate(mits):
-        if m not in MITIGATIONS:
-            raise doc.error(f"unknown mitigation {m!r}{did_you_mean(m, MITIGATIONS)}",
-                            ["mitigations", k], fix=f"use {', '.join(MITIGATIONS)}")
+        msg = mitigation_error(m)
+        if msg:
+            raise doc.error(msg.split(";")[0], ["mitigations", k],
+                            fix=f"use {', '.join(MITIGATIONS)}")
     return SelectedStackup(stackup, drill_m, vias, tuple(mits))
 
 

@@ -10,6 +10,7 @@ from typing import Literal
 
 from pydantic import BaseModel, Field, field_validator, model_validator
 
+from stackopt.errors import did_you_mean
 from stackopt.model.circuit import Circuit
 from stackopt.model.fields import (
     FROZEN,
@@ -19,6 +20,8 @@ from stackopt.model.fields import (
     NonNegativeFloat,
     PositiveLength,
 )
+from stackopt.model.mitigations import MITIGATIONS, mitigation_error
+from stackopt.physics.inductance import DEFAULT_VIA_MODEL, VIA_MODELS
 
 __all__ = [
     "Board",
@@ -34,11 +37,7 @@ __all__ = [
     "check_lot_sizes",
 ]
 
-#: Mitigations the search can switch on per candidate.
-MITIGATIONS = ("via_in_pad", "own_vias", "coplanar")
-Mitigation = Literal["via_in_pad", "own_vias", "coplanar"]
 Objective = Literal["margin", "attenuation", "inductance"]
-ViaModelName = Literal["goldfarb-pucel", "johnson", "rosa", "image"]
 
 
 #: Largest lot accepted.
@@ -136,6 +135,8 @@ class ControlledLine(BaseModel):
 
     model_config = FROZEN
     name: str
+    #: The kinds the search sizes on the top layer (a subset of the line registry,
+    #: :data:`stackopt.physics.linetypes.LINE_TYPES`).
     type: Literal["microstrip", "cpwg"] = "microstrip"
     impedance: Impedance
     max_width: PositiveLength | None = None
@@ -182,9 +183,19 @@ class SpaceSpec(BaseModel):
     drills: tuple[PositiveLength, ...] = (0.3e-3,)
     vias_per_ground: tuple[int, ...] = (1,)
     max_plies: int = Field(default=3, ge=1, le=4, description="prepreg plies per opening, at most")
-    mitigations: tuple[Mitigation, ...] = ()
+    mitigations: tuple[str, ...] = Field(default=(), description="names in "
+                                         ":data:`stackopt.model.mitigations.MITIGATIONS`")
     constructions: Literal["any", "standard"] = Field(
         default="any", description="'standard': only the fab's listed constructions")
+
+    @field_validator("mitigations")
+    @classmethod
+    def _mitigations(cls, v: tuple[str, ...]) -> tuple[str, ...]:
+        for name in v:
+            msg = mitigation_error(name)
+            if msg:
+                raise ValueError(msg)
+        return v
 
     @model_validator(mode="after")
     def _check(self) -> SpaceSpec:
@@ -211,7 +222,16 @@ class SearchSpec(BaseModel):
     method: Literal["auto", "exact", "nsga2"] = "auto"
     budget: int = Field(default=20_000, ge=100, le=10_000_000)
     seed: int = Field(default=1, ge=0, le=2**32 - 1)
-    via_model: ViaModelName = "goldfarb-pucel"
+    via_model: str = Field(default=DEFAULT_VIA_MODEL, description="a key of "
+                           ":data:`stackopt.physics.inductance.VIA_MODELS`")
+
+    @field_validator("via_model")
+    @classmethod
+    def _via_model(cls, v: str) -> str:
+        if v not in VIA_MODELS:
+            raise ValueError(f"unknown via model {v!r}{did_you_mean(v, VIA_MODELS)}; use one "
+                             f"of: {', '.join(VIA_MODELS)}")
+        return v
 
     @model_validator(mode="after")
     def _check(self) -> SearchSpec:

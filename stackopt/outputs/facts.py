@@ -11,27 +11,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from stackopt.search.results import PICKS
+from stackopt.search.picks import PICKS
 
-__all__ = ["PICK_LABELS", "PICK_SHORT", "unique_picks", "selected_index", "cost_items",
+__all__ = ["unique_picks", "selected_index", "cost_items",
            "sweep_freqs", "responses", "top_dielectric", "shortfalls", "Comparison",
            "comparison", "money", "mm", "db"]
-
-#: Names of the picks for people (report, legends).
-PICK_LABELS = {
-    "cheapest_meeting_requirements": "Cheapest meeting the requirements",
-    "cheapest_two_layer": "Cheapest two-layer",
-    "best_two_layer": "Best two-layer",
-    "best_overall": "Best overall",
-}
-#: Short labels for plot annotations.
-PICK_SHORT = {
-    "cheapest_meeting_requirements": "cheapest OK",
-    "cheapest_two_layer": "cheapest 2L",
-    "best_two_layer": "best 2L",
-    "best_overall": "best",
-}
-
 
 def money(x: float | None, currency: str, digits: int = 2) -> str:
     """``1,234.50 EUR``; ``n/a`` for ``None`` or a non-finite value."""

@@ -15,8 +15,9 @@ import matplotlib as mpl
 import numpy as np
 from matplotlib.figure import Figure
 
-from stackopt.outputs.facts import PICK_SHORT, responses, sweep_freqs, unique_picks
+from stackopt.outputs.facts import responses, sweep_freqs, unique_picks
 from stackopt.outputs.files import atomic_write_bytes
+from stackopt.search.picks import PICKS
 
 __all__ = ["STYLE", "styled", "new_figure", "figure_bytes", "save_png", "save_svg",
            "plot_front", "plot_response", "plain", "LAYER_MARKERS", "layer_color", "pick_color"]
@@ -148,7 +149,7 @@ def plot_front(result) -> Figure:
                    label="requirement met above this line")
     offsets = [(14, 22), (14, -26), (-60, 26), (-60, -30), (22, 4)]
     for k, (i, names) in enumerate(unique_picks(result)):
-        text = " / ".join(PICK_SHORT[nm] for nm in names)
+        text = " / ".join(PICKS[nm].plot for nm in names)
         ax.annotate(f"{text}\n{int(layers[i])}L, {x[i]:,.2f} {cur}", (x[i], y[i]),
                     xytext=offsets[k % len(offsets)], textcoords="offset points", fontsize=8,
                     color=pick_color(k), zorder=6,
@@ -202,7 +203,7 @@ def plot_response(result) -> Figure:
     ax.plot(f / 1e9, ideal, color="black", ls="--", lw=1.2, label="ideal grounding", zorder=3)
     ev = result.evaluation
     for k, (i, names) in enumerate(picks):
-        text = " / ".join(PICK_SHORT[nm] for nm in names)
+        text = " / ".join(PICKS[nm].plot for nm in names)
         ax.plot(f / 1e9, s21[k], color=pick_color(k), lw=1.5, zorder=4,
                 label=f"{text}: {int(ev.geometry.layers[i])} layers, "
                       f"{result.ids[i]}")

@@ -6,8 +6,9 @@ import numpy as np
 from matplotlib.figure import Figure
 from matplotlib.patches import Rectangle
 
-from stackopt.outputs.facts import PICK_SHORT, cost_items, unique_picks
+from stackopt.outputs.facts import cost_items, unique_picks
 from stackopt.outputs.plots import new_figure, pick_color, plain, styled
+from stackopt.search.picks import PICKS
 
 __all__ = ["plot_stackups", "plot_costs", "plot_prepregs", "prepreg_table"]
 
@@ -78,7 +79,7 @@ def plot_stackups(result) -> Figure:
     axes = fig.subplots(1, ncol, squeeze=False)[0]
     for k, (ax, (i, names)) in enumerate(zip(axes, picks, strict=True)):
         st = result.stackup(i)
-        head = " / ".join(PICK_SHORT[nm] for nm in names)
+        head = " / ".join(PICKS[nm].plot for nm in names)
         title = (f"{head}\n{st.n_layers} layers, {st.thickness * 1e3:.2f} mm, "
                  f"{result.evaluation.unit_cost[i]:,.2f} {cur}")
         _draw_stackup(ax, st, title, pick_color(k))
@@ -114,7 +115,7 @@ def plot_costs(result) -> Figure:
         ax.annotate(f"{ev.unit_cost[i]:,.2f} {cur}\nlot {ev.lot_cost[i]:,.0f} {cur}",
                     (x, top), xytext=(0, 4), textcoords="offset points", ha="center",
                     fontsize=8)
-    labels = [f"{' / '.join(PICK_SHORT[n] for n in nm)}\n{int(ev.geometry.layers[i])} layers"
+    labels = [f"{' / '.join(PICKS[n].plot for n in nm)}\n{int(ev.geometry.layers[i])} layers"
               for i, nm in picks]
     ax.set_xticks(xs, labels)
     ax.set_ylim(0, float(bottom.max(initial=1.0)) * 1.22 or 1.0)

@@ -11,7 +11,6 @@ what they miss by.
 from __future__ import annotations
 
 from stackopt.outputs.facts import (
-    PICK_LABELS,
     comparison,
     db,
     mm,
@@ -30,6 +29,7 @@ from stackopt.outputs.report_sections import (
     spread_table,
     stackup_table,
 )
+from stackopt.search.picks import PICKS
 
 __all__ = ["report_document", "report_markdown", "report_html", "IMAGE_FILES"]
 
@@ -172,7 +172,7 @@ def picks_table(result) -> tuple:
     tops = top_dielectric(result)
     for i, names in unique_picks(result):
         mit = [m for m in result.problem.space.mitigations if ev.geometry.flags[m][i]]
-        rows.append([" / ".join(PICK_LABELS[n] for n in names), result.ids[i],
+        rows.append([" / ".join(PICKS[n].report for n in names), result.ids[i],
                      str(_layers(result, i)), money(ev.unit_cost[i], cur),
                      money(ev.lot_cost[i], cur, 0), db(ev.margin[i], sign=True),
                      f"{ev.lead_time_days[i]:g} days",

@@ -6,8 +6,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from stackopt.model.mitigations import MITIGATIONS
 from stackopt.outputs.facts import db, mm, money
-from stackopt.search.ladder import MITIGATION_WORDS
 
 __all__ = ["ladder_section"]
 
@@ -76,7 +76,7 @@ def _pareto_rows(ladder, cur: str) -> list[list[str]]:
     sp, pev = ladder.problem.space, ladder.pareto_evaluation
     rows = []
     for i in range(len(pev.unit_cost)):
-        mits = [MITIGATION_WORDS[m] for k, m in enumerate(sp.mitigations)
+        mits = [MITIGATIONS[m].words for k, m in enumerate(sp.mitigations)
                 if ladder.pareto.mit[i, k]]
         rows.append([money(pev.unit_cost[i], cur, 3), db(pev.margin[i], sign=True),
                      mm(pev.geometry.thickness[i]), mm(pev.geometry.drill[i]),

@@ -8,7 +8,9 @@ import math
 
 import numpy as np
 
-from stackopt.outputs.facts import PICK_LABELS, comparison, db, mm, selected_index, unique_picks
+from stackopt.model.mitigations import MITIGATIONS
+from stackopt.outputs.facts import comparison, db, mm, selected_index, unique_picks
+from stackopt.search.picks import PICKS
 
 __all__ = ["risks", "stackup_table", "spread_table", "assumptions", "cautions",
            "method_line", "OZ", "WIDE_TRACE", "THIN_DIELECTRIC", "SAFETY_CAUTION"]
@@ -86,7 +88,7 @@ def risks(result) -> list[str]:
                            "0.25-0.45 mm) without a taper, which is an impedance step right "
                            "at the part.")
         if i == c.two:
-            mit = [m.replace("_", " ") for m in result.problem.space.mitigations
+            mit = [MITIGATIONS[m].label for m in result.problem.space.mitigations
                    if g.flags[m][i]]
             if mit:
                 out.append(f"The best two-layer figure assumes {', '.join(mit)}: layout "
@@ -134,7 +136,7 @@ def stackup_table(result) -> list[tuple]:
                          if rec["kind"] == "prepreg" else rec["kind"], mm(t),
                          f"{rec['er']:.2f}", f"{rec['df']:.3f}", "", ""])
     meets = "meets every requirement" if result.meets[sel] else "closest to the requirements"
-    mit = [m.replace("_", " ") for m in result.problem.space.mitigations
+    mit = [MITIGATIONS[m].label for m in result.problem.space.mitigations
            if ev.geometry.flags[m][sel]]
     return [
         ("h2", f"Recommended stackup: {result.ids[sel]} ({meets})"),
@@ -158,7 +160,7 @@ def spread_table(result) -> list[tuple]:
     for i, names in unique_picks(result):
         vals = [float(result.spread[m][i]) for m in models]
         fin = [v for v in vals if math.isfinite(v)]
-        rows.append([" / ".join(PICK_LABELS[n] for n in names), result.ids[i],
+        rows.append([" / ".join(PICKS[n].report for n in names), result.ids[i],
                      *[db(v, sign=True) for v in vals],
                      f"{max(fin) - min(fin):.1f} dB" if fin else "n/a"])
     return [("h2", "Model spread"),

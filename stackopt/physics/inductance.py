@@ -18,7 +18,7 @@ outer diameter), ``r = d/2``, ``s`` centre spacing; :math:`\mu_0/2\pi` = 0.2 nH/
 
 from __future__ import annotations
 
-from typing import Literal
+from collections.abc import Callable
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -30,6 +30,7 @@ from stackopt.physics.tube import tube_self_inductance
 __all__ = [
     "VIA_MODELS",
     "ViaModel",
+    "DEFAULT_VIA_MODEL",
     "GOLDFARB_PUCEL_FIT_RANGE",
     "via_goldfarb_pucel",
     "via_johnson_graham",
@@ -42,10 +43,10 @@ __all__ = [
     "check_via_model",
 ]
 
-#: A ground-via model name (see :data:`VIA_MODELS`).
-ViaModel = Literal["goldfarb-pucel", "johnson", "rosa", "image"]
-#: The ground-via models by name, in the order they are shown; the first is the default.
-VIA_MODELS: tuple[ViaModel, ...] = ("goldfarb-pucel", "johnson", "rosa", "image")
+#: A ground-via model name: a key of :data:`VIA_MODELS`.
+ViaModel = str
+#: The default ground-via model (the first of :data:`VIA_MODELS`).
+DEFAULT_VIA_MODEL: ViaModel = "goldfarb-pucel"
 
 #: Via depths [m] over which Goldfarb & Pucel (1991) fitted their formula to data.
 GOLDFARB_PUCEL_FIT_RANGE: tuple[float, float] = (0.1e-3, 0.63e-3)
@@ -309,8 +310,13 @@ def via_image(h: ArrayLike, d: ArrayLike) -> _F:
                                       0.5 * np.asarray(d, dtype=float))
 
 
-_SELF = {"goldfarb-pucel": via_goldfarb_pucel, "johnson": via_johnson_graham,
-         "rosa": via_rosa, "image": via_image}
+#: The registry of ground-via models: name -> kernel ``f(h, d) -> L`` [H] (vectorized, SI),
+#: in the order they are shown; the first is the default. Adding a model is one kernel
+#: and one entry here: ``calc via --model``, a scenario's ``search.via_model``, the model
+#: spread and the report read this dict.
+VIA_MODELS: dict[str, Callable[[ArrayLike, ArrayLike], _F]] = {
+    "goldfarb-pucel": via_goldfarb_pucel, "johnson": via_johnson_graham,
+    "rosa": via_rosa, "image": via_image}
 
 
 def check_via_model(model: str) -> ViaModel:
@@ -318,10 +324,10 @@ def check_via_model(model: str) -> ViaModel:
 
     The message lists the allowed names and suggests the closest one.
     """
-    if model not in _SELF:
+    if model not in VIA_MODELS:
         raise ModelError(f"unknown via model {model!r}{did_you_mean(model, VIA_MODELS)}",
                          key="model", fix=f"use one of: {', '.join(VIA_MODELS)}")
-    return model  # type: ignore[return-value]
+    return model
 
 
 def ground_via_inductance(h: ArrayLike, d: ArrayLike, model: ViaModel = "goldfarb-pucel"
@@ -349,7 +355,7 @@ def ground_via_inductance(h: ArrayLike, d: ArrayLike, model: ViaModel = "goldfar
         For a model name not in :data:`VIA_MODELS`.
 
     """
-    return _SELF[check_via_model(model)](h, d)
+    return VIA_MODELS[check_via_model(model)](h, d)
 
 
 def goldfarb_pucel_in_range(h: ArrayLike, d: ArrayLike) -> NDArray[np.bool_]:

@@ -38,19 +38,16 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from stackopt.model.mitigations import MITIGATIONS
 from stackopt.search.front import nondominated
 from stackopt.search.problem import Evaluation, Problem
 from stackopt.search.space import Candidates, Space
 
 __all__ = ["Ladder", "mitigation_ladder", "build_ladder", "climb", "plain_board",
-           "two_layer_combinations", "ENUMERATE_LIMIT", "MITIGATION_WORDS"]
+           "two_layer_combinations", "ENUMERATE_LIMIT"]
 
 #: Two-layer combinations evaluated exhaustively up to this many.
 ENUMERATE_LIMIT = 200_000
-#: Mitigation switches in words.
-MITIGATION_WORDS = {"via_in_pad": "via-in-pad (filled and capped)",
-                    "own_vias": "own via for every element",
-                    "coplanar": "coplanar ground pour with stitching vias"}
 _EPS_DB = 1e-6
 _NOMINAL = 1.6e-3  # the usual two-layer thickness (common practice, no source)
 _CACHE: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
@@ -186,7 +183,7 @@ def _words(space: Space, a: np.ndarray | None, b: np.ndarray) -> str:
     t = core.thickness[b[1]]
     cu = space.copper[int(b[1 + s])]
     if a is None:
-        mits = [MITIGATION_WORDS[m] for k, m in enumerate(space.mitigations) if b[4 + s + k]]
+        mits = [MITIGATIONS[m].words for k, m in enumerate(space.mitigations) if b[4 + s + k]]
         plain = not mits and space.vias[int(b[3 + s])] == min(space.vias)
         return (("plain two-layer board" if plain else
                  "simplest feasible two-layer board (no plain one is feasible)")
@@ -206,7 +203,7 @@ def _words(space: Space, a: np.ndarray | None, b: np.ndarray) -> str:
         out.append(f"{space.vias[int(b[3 + s])]} vias per ground connection")
     for k, m in enumerate(space.mitigations):
         if a[4 + s + k] != b[4 + s + k]:
-            out.append(MITIGATION_WORDS[m] if b[4 + s + k] else f"no {MITIGATION_WORDS[m]}")
+            out.append(MITIGATIONS[m].words if b[4 + s + k] else f"no {MITIGATIONS[m].words}")
     return ", ".join(out) or "no change"
 
 

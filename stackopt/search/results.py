@@ -13,14 +13,12 @@ import pandas as pd
 
 from stackopt import __version__
 from stackopt.search.front import nondominated
+from stackopt.search.picks import PICKS
 from stackopt.search.problem import Evaluation, Problem
 from stackopt.search.space import Candidates, candidate_stackup
 
 __all__ = ["Result", "PICKS"]
 
-#: Named picks, in the order they are reported.
-PICKS = ("cheapest_meeting_requirements", "cheapest_two_layer", "best_two_layer",
-         "best_overall")
 
 
 def _num(x: float | np.floating) -> float | None:
@@ -101,7 +99,10 @@ class Result:
         idx = np.flatnonzero(self.on_front)
         return idx[np.lexsort((self.objectives[idx, 1], self.evaluation.unit_cost[idx]))]
 
-    def _best(self, mask: np.ndarray, by: str) -> int | None:
+    def best(self, mask: np.ndarray, by: str) -> int | None:
+        """The best row of ``mask``: the cheapest (``by="cost"``; ties by the electrical
+        objective, then the simplest) or the best electrical objective (``"perf"``; ties by
+        cost, then the simplest); ``None`` if the mask is empty."""
         idx = np.flatnonzero(mask)
         if not len(idx):
             return None
@@ -115,14 +116,9 @@ class Result:
 
     @cached_property
     def picks(self) -> dict[str, int | None]:
-        """Index of each named pick (``None`` when nothing qualifies)."""
-        two = self.evaluation.geometry.layers == 2
-        return {
-            "cheapest_meeting_requirements": self._best(self.meets, "cost"),
-            "cheapest_two_layer": self._best(self.feasible & two, "cost"),
-            "best_two_layer": self._best(self.feasible & two, "perf"),
-            "best_overall": self._best(self.feasible, "perf"),
-        }
+        """Index of each named pick of :data:`~stackopt.search.picks.PICKS` (``None`` when
+        nothing qualifies)."""
+        return {name: p.select(self) for name, p in PICKS.items()}
 
     def prepreg_pick(self) -> list[dict]:
         """For each dielectric used between the top copper and its plane (by a feasible

@@ -21,7 +21,8 @@ import numpy as np
 from stackopt.errors import InputError
 from stackopt.model.construction import Construction, parse_entry, slot_kinds
 from stackopt.model.geometry import LayerStack, role_codes
-from stackopt.model.scenario import MITIGATIONS, Scenario
+from stackopt.model.mitigations import MITIGATIONS
+from stackopt.model.scenario import Scenario
 
 __all__ = ["Arrangement", "DielectricOptions", "Candidates", "Geometry", "Space", "arrangements",
            "candidate_stackup"]
