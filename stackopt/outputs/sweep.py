@@ -12,8 +12,9 @@ from matplotlib.figure import Figure
 from matplotlib.ticker import FuncFormatter
 
 from stackopt.analyses.quantities import QuantitySweep, quantity_grid, unit_cost_curve
-from stackopt.outputs.facts import PICK_LABELS, money, selected_index
+from stackopt.outputs.facts import money, selected_index
 from stackopt.outputs.plots import new_figure, pick_color, plain, styled
+from stackopt.search.picks import PICKS
 
 __all__ = ["SWEEP_PICKS", "sweep_picks", "sweep_summary", "sweep_sentence",
            "sweep_section", "plot_quantities"]
@@ -27,7 +28,8 @@ _WORDS = {2: "two", 4: "four", 6: "six", 8: "eight", 10: "ten", 12: "twelve"}
 
 def label(name: str) -> str:
     """A pick's name for people."""
-    return "Recommended" if name == "recommended" else PICK_LABELS.get(name, name)
+    return "Recommended" if name == "recommended" else (
+        PICKS[name].report if name in PICKS else name)
 
 
 def sweep_picks(result) -> dict[str, int | None]:
