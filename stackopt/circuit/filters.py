@@ -18,7 +18,8 @@ import math
 
 import numpy as np
 
-from stackopt.model.circuit import GROUND_NODE, Circuit, Element, FilterSpec, Ground
+from stackopt.circuit.elliptic import elliptic_prototype
+from stackopt.model.circuit import GROUND_NODE, Circuit, Coupling, Element, FilterSpec, Ground
 
 __all__ = ["butterworth_g", "chebyshev_g", "prototype_g", "filter_circuit"]
 
@@ -117,6 +118,8 @@ def filter_circuit(spec: FilterSpec, z0: float, input: str = "in", output: str =
     -------
     Circuit
     """
+    if spec.family == "elliptic":
+        return _with_coupling(spec, _elliptic_circuit(spec, z0, input, output))
     g = prototype_g(spec)
     wc = 2.0 * math.pi * spec.cutoff
     shunt = [(k % 2 == 0) == (spec.first == "shunt") for k in range(spec.order)]
@@ -151,5 +154,72 @@ def filter_circuit(spec: FilterSpec, z0: float, input: str = "in", output: str =
                 {"name": f"{typ}{k}", "type": typ, "value": value,
                  "between": (chain[node], chain[node + 1]), **par}))
             node += 1
+    return _with_coupling(spec, Circuit(z0=z0, input=input, output=output,
+                                        elements=tuple(elements), grounds=tuple(grounds)))
+
+
+def _denorm(spec: FilterSpec, z0: float, typ: str, g: float) -> tuple[str, float]:
+    """A normalized prototype L or C (1 ohm, 1 rad/s) at ``z0`` and the cutoff; a
+    high-pass maps L -> C and C -> L (omega -> -omega_c^2/omega)."""
+    wc = 2.0 * math.pi * spec.cutoff
+    if spec.response == "lowpass":
+        return (typ, g * z0 / wc) if typ == "L" else (typ, g / (wc * z0))
+    return ("C", 1.0 / (wc * g * z0)) if typ == "L" else ("L", z0 / (wc * g))
+
+
+def _elliptic_circuit(spec: FilterSpec, z0: float, input: str, output: str) -> Circuit:
+    """The elliptic ladder (:mod:`stackopt.circuit.elliptic`) as explicit elements."""
+    pr = elliptic_prototype(spec.order, float(spec.ripple), float(spec.stopband_attenuation),
+                            spec.first)  # type: ignore[arg-type]
+    m = len(pr.main)
+    if spec.first == "shunt":  # main shunt C on every node, parallel L-C arms between
+        nodes = [input] + [f"n{i}" for i in range(1, m - 1)] + [output]
+    else:  # main series L between nodes, traps on the nodes in between
+        nodes = [input] + [f"n{i}" for i in range(1, m)] + [output]
+    chain = nodes
+    if any(n in (input, output) for n in chain[1:-1]) or input == output:
+        raise ValueError("filter port nodes must be two names other than n1, n2, ...; "
+                         "rename 'input'/'output'")
+    elements: list[Element] = []
+    grounds: list[Ground] = []
+
+    def add(typ: str, g: float, k: int, a: str, b: str, suffix: str = "") -> None:
+        t, v = _denorm(spec, z0, typ, g)
+        gname = None
+        if b == GROUND_NODE and spec.ground is not None:
+            gname = f"g{k}"
+            grounds.append(Ground(name=gname, at=(len(grounds) * spec.spacing, 0.0),
+                                  **spec.ground.model_dump()))
+        par = (spec.capacitor if t == "C" else spec.inductor).model_dump()
+        elements.append(Element.model_validate(
+            {"name": f"{t}{k}{suffix}", "type": t, "value": v, "ground": gname,
+             "between": (a, b), **par}))
+
+    k = 0
+    for i, g in enumerate(pr.main):  # a handful of sections
+        k += 1
+        if spec.first == "shunt":
+            add("C", g, k, nodes[i], GROUND_NODE)
+            if i < len(pr.arm_l):
+                k += 1
+                add("L", pr.arm_l[i], k, nodes[i], nodes[i + 1])
+                add("C", pr.arm_c[i], k, nodes[i], nodes[i + 1], "p")
+        else:
+            add("L", g, k, nodes[i], nodes[i + 1])
+            if i < len(pr.arm_l):
+                k += 1
+                trap = f"t{k}"
+                add("C", pr.arm_c[i], k, nodes[i + 1], trap, "s")
+                add("L", pr.arm_l[i], k, trap, GROUND_NODE)
     return Circuit(z0=z0, input=input, output=output, elements=tuple(elements),
                    grounds=tuple(grounds))
+
+
+def _with_coupling(spec: FilterSpec, c: Circuit) -> Circuit:
+    """``spec.coupling`` as the magnetic coupling k between neighbouring generated
+    inductors (consecutive in element order)."""
+    if not spec.coupling:
+        return c
+    ls = [e.name for e in c.elements if e.type == "L"]
+    cps = [Coupling(between=(a, b), k=spec.coupling) for a, b in zip(ls, ls[1:], strict=False)]
+    return c.model_copy(update={"couplings": tuple(cps)}) if cps else c

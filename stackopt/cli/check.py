@@ -41,6 +41,17 @@ def run(args: argparse.Namespace) -> int:
     say(f"circuit  z0 {fq(c.z0, 'impedance')}, ports {c.input} -> {c.output}, "
           f"{compiled.n_elements} elements ({', '.join(compiled.names)}), "
           f"{len(compiled.conn_names)} ground connections")
+    if c.filter is not None:  # the generated parts, with their values
+        from stackopt.circuit.filters import filter_circuit
+
+        gen = filter_circuit(c.filter, c.z0, c.input, c.output)
+        dims = {"L": "inductance", "C": "capacitance", "R": "impedance"}
+        say(table([[e.name, e.type, fq(float(e.value), dims[e.type]),  # type: ignore[arg-type]
+                     f"{e.between[0]} - {e.between[1]}", e.ground or ""]
+                   for e in gen.elements],
+                  ["generated", "type", "value", "between", "ground"]))
+        for note in problem.placed[1]:
+            say("note: " + note)
     rows = []
     for r in sc.requirements:
         where = (fq(r.frequency, "frequency") if r.frequency is not None else
