@@ -42,3 +42,33 @@ def test_auto_chooses_nsga2_only_beyond_the_budget(monkeypatch):
     monkeypatch.setattr(api, "exact_cost", lambda p: ExactCost(10**12, 10**9))
     r = optimize(sc, TABLE, method="auto", budget=300)
     assert r.method == "nsga2"
+
+
+def test_cheapest_builds_are_the_exact_searchs_cheapest_per_layer_count():
+    # the exact search (tested against brute force) is the reference
+    import numpy as np
+
+    from stackopt.search.exact import cheapest_builds
+
+    sc = scenario(layers=(2, 4, 6), symmetric=False)
+    p = Problem(sc, TABLE)
+    seeds = p.evaluate(cheapest_builds(p))
+    ex = optimize(sc, TABLE, method="exact")
+    layers = ex.evaluation.geometry.layers
+    for n in (4, 6):
+        ok = seeds.feasible & (seeds.geometry.layers == n)
+        assert ok.any()
+        best = ex.evaluation.unit_cost[ex.feasible & (layers == n)].min()
+        assert np.isclose(seeds.unit_cost[ok].min(), best, rtol=1e-12)
+
+
+def test_seeded_nsga2_holds_the_cheapest_board_of_each_layer_count_from_the_start():
+    import numpy as np
+
+    sc = scenario(layers=(2, 4, 6), symmetric=False)
+    ex = optimize(sc, TABLE, method="exact")
+    ga = optimize(sc, TABLE, method="nsga2", budget=200, seed=5)
+    for n in (4, 6):
+        e = ex.evaluation.unit_cost[ex.feasible & (ex.evaluation.geometry.layers == n)].min()
+        g = ga.evaluation.unit_cost[ga.feasible & (ga.evaluation.geometry.layers == n)].min()
+        assert np.isclose(g, e, rtol=1e-12)

@@ -27,8 +27,8 @@ from stackopt.search.phenotype import QUANTUM, quantize
 from stackopt.search.problem import Problem
 from stackopt.search.space import Arrangement, Candidates, Space
 
-__all__ = ["ExactPlan", "ExactCost", "exact_candidates", "enumerate_all", "exact_cost",
-           "construction_candidates"]
+__all__ = ["ExactPlan", "ExactCost", "cheapest_builds", "exact_candidates", "enumerate_all",
+           "exact_cost", "construction_candidates"]
 
 _BIG = 1e30
 
@@ -168,6 +168,38 @@ def exact_cost(problem: Problem) -> ExactCost:
         priced += groups * states
         reps += groups * len(sp.vias) * other
     return ExactCost(int(priced), int(reps))
+
+
+def cheapest_builds(problem: Problem) -> Candidates:
+    """The cheapest build of every arrangement and copper weight that meets the thickness
+    rules (the least violating where none does): a dynamic programme over *all* its
+    dielectric genes (cheapest materials per finished thickness), priced at every drill;
+    one via per connection, no mitigations. A handful of boards, found in milliseconds:
+    the cost end of the front, used to seed the evolutionary search."""
+    sp = problem.space
+    if sp.constructions:
+        return construction_candidates(sp).take(np.arange(0))
+    parts: list[Candidates] = []
+    for ai, a in enumerate(sp.arrangements):
+        tables = _gene_tables(sp, a, _material_coef(problem, a.n_layers))
+        st_t, st_c, back = _tail_dp(tables)
+        for ci, cu in enumerate(sp.copper):
+            t = (st_t + int(round(cu * 1e9)) * a.n_layers) * 1e-9
+            best_key, best = np.inf, (0, 0)
+            for di, drill in enumerate(sp.drills):  # a handful of drills
+                base, viol, _ = _thickness_terms(problem, a.n_layers, cu, drill, False, t)
+                key = np.where(viol > 0, _BIG * (1 + viol), base + st_c)
+                k = int(np.argmin(key))
+                if key[k] < best_key:
+                    best_key, best = float(key[k]), (k, di)
+            genes = _backtrack(back, np.array([best[0]]))[0]
+            slot = np.full((1, sp.n_slots), -1, dtype=np.int64)
+            for g, slots in enumerate(a.genes):
+                slot[0, list(slots)] = genes[g]
+            parts.append(Candidates(arr=np.array([ai]), slot=slot, copper=np.array([ci]),
+                                    drill=np.array([best[1]]), vias=np.array([0]),
+                                    mit=np.zeros((1, len(sp.mitigations)), dtype=bool)))
+    return Candidates.concat(parts)
 
 
 def construction_candidates(space: Space) -> Candidates:
