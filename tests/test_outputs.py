@@ -65,7 +65,8 @@ def test_summary_contract(demo_out, demo_result):
     for key in ("scenario", "currency", "quantity", "method", "space_size", "evaluated",
                 "front", "picks"):
         assert key in data
-    assert set(data["picks"]) == {"cheapest_meeting_requirements", "cheapest_two_layer",
+    assert set(data["picks"]) == {"cheapest_robust", "cheapest_meeting_requirements",
+                                  "cheapest_two_layer",
                                   "best_two_layer", "best_overall"}
     assert len(data["front"]) == int(demo_result.on_front.sum())
 

@@ -184,7 +184,8 @@ def test_summary_contract():
               "front", "picks"):
         assert k in s
     assert s["method"] in ("exact", "nsga2")
-    assert set(s["picks"]) == {"cheapest_meeting_requirements", "cheapest_two_layer",
+    assert set(s["picks"]) == {"cheapest_robust", "cheapest_meeting_requirements",
+                               "cheapest_two_layer",
                                "best_two_layer", "best_overall"}
     rec = s["front"][0]
     for k in ("id", "layers", "thickness_m", "ground_plane_depth_m", "unit_cost", "lot_cost",

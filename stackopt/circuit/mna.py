@@ -38,7 +38,7 @@ from stackopt.circuit.ladder import ladder_s
 from stackopt.circuit.smallsolve import schur_small
 from stackopt.errors import InputError
 
-__all__ = ["solve", "mna_s", "CHUNK", "SMALL_CHUNK", "MIN_REDUCE", "COND_LIMIT"]
+__all__ = ["solve", "mna_s", "mna_s_varied", "CHUNK", "SMALL_CHUNK", "MIN_REDUCE", "COND_LIMIT"]
 
 #: Matrices per linear-solve call (bounds memory: CHUNK × n² × 16 bytes).
 CHUNK = 16384
@@ -64,10 +64,14 @@ def _check_freqs(freqs: np.ndarray) -> np.ndarray:
     return f
 
 
-def _assemble(c: CompiledCircuit, f: np.ndarray, grounded: bool
-              ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Fixed part (F, n, n) of the matrix, right-hand sides (n, 2), terminal unknowns (G,)."""
-    nf, k = len(f), len(c.nodes)
+def _assemble(c: CompiledCircuit, f: np.ndarray, grounded: bool,
+              ze: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Fixed part (F, n, n) of the matrix, right-hand sides (n, 2), terminal unknowns (G,).
+
+    ``ze`` (..., F, E): element impedances varied per batch member (default
+    ``c.impedance(f)``); the fixed part is then (..., F, n, n).
+    """
+    k = len(c.nodes)
     jw = 2j * np.pi * f
     current = c.zero | np.any(c.mutual != 0, axis=1)
     if grounded:
@@ -75,24 +79,24 @@ def _assemble(c: CompiledCircuit, f: np.ndarray, grounded: bool
     cb = np.flatnonzero(current)
     sb = np.flatnonzero(~current)
     n = k + len(cb)
-    ze = c.impedance(f)  # (F, E)
-    base = np.zeros((nf, n, n), dtype=complex)
+    ze = c.impedance(f) if ze is None else ze  # (..., F, E)
+    base = np.zeros(ze.shape[:-1] + (n, n), dtype=complex)
     for p in set(c.ports):
-        base[:, p, p] += 1.0 / c.z0 * c.ports.count(p)
+        base[..., p, p] += 1.0 / c.z0 * c.ports.count(p)
     for e in sb:  # admittance stamps (a handful of elements)
-        y = 1.0 / ze[:, e]
+        y = 1.0 / ze[..., e]
         for p, q, sign in ((c.node_a[e], c.node_a[e], 1.0), (c.node_b[e], c.node_b[e], 1.0),
                            (c.node_a[e], c.node_b[e], -1.0), (c.node_b[e], c.node_a[e], -1.0)):
             if p >= 0 and q >= 0:
-                base[:, p, q] += sign * y
+                base[..., p, q] += sign * y
     for j, e in enumerate(cb):
         for node, sign in ((c.node_a[e], 1.0), (c.node_b[e], -1.0)):
             if node >= 0:
-                base[:, node, k + j] = sign
-                base[:, k + j, node] = sign
-        base[:, k + j, k + j] = -ze[:, e]
+                base[..., node, k + j] = sign
+                base[..., k + j, node] = sign
+        base[..., k + j, k + j] = -ze[..., e]
     zsub = np.ix_(cb, cb)
-    base[:, k:, k:] -= jw[:, None, None] * c.mutual[zsub][None]
+    base[..., k:, k:] -= jw[:, None, None] * c.mutual[zsub][None]
     rhs = np.zeros((n, 2), dtype=complex)
     for col, p in enumerate(c.ports):
         rhs[p, col] += 2.0 / c.z0
@@ -118,14 +122,16 @@ def _singular() -> InputError:
 
 def _full(base: np.ndarray, rhs: np.ndarray, term: np.ndarray, jw: np.ndarray,
           lg: np.ndarray | None, ports: list[int]) -> np.ndarray:
-    """Port voltages (N, F, 2, 2): one LAPACK solve of every whole matrix."""
-    nf = base.shape[0]
-    nb = 1 if lg is None else lg.shape[0]
+    """Port voltages (N, F, 2, 2): one LAPACK solve of every whole matrix (``base``
+    (F, n, n) shared by the batch, or (N, F, n, n) one per member)."""
+    nf = base.shape[-3]
+    nb = base.shape[0] if base.ndim == 4 else 1 if lg is None else lg.shape[0]
     out = np.empty((nb, nf, 2, 2), dtype=complex)
     step = max(1, CHUNK // nf)
     for i0 in range(0, nb, step):  # chunks of candidates (memory bound, not per candidate)
         sl = slice(i0, i0 + step)
-        mat = base[None].repeat(len(range(nb)[sl]), axis=0)
+        mat = (base[sl].copy() if base.ndim == 4
+               else base[None].repeat(len(range(nb)[sl]), axis=0))
         if lg is not None and len(term):
             mat[:, :, term[:, None], term[None, :]] -= jw[None, :, None, None] * lg[sl, None]
         try:
@@ -218,6 +224,21 @@ def mna_s(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray | None, *
             out[:, ok] = _reduced(base[ok], rhs, term, jw[ok], lg, ports)
         if not np.all(ok):
             out[:, ~ok] = _full(base[~ok], rhs, term, jw[~ok], lg, ports)
+    out[..., 0, 0] -= 1.0
+    out[..., 1, 1] -= 1.0
+    return out
+
+
+def mna_s_varied(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray,
+                 ze: np.ndarray) -> np.ndarray:
+    """S-parameters (N, F, 2, 2) when the parts vary too: element impedances ``ze``
+    (N, F, E) [ohm] (e.g. values drawn within their tolerances) and ground-terminal
+    inductance ``lg`` (N, G, G) [H] per batch member; every whole matrix is solved."""
+    c = compiled
+    f = _check_freqs(freqs)
+    jw = 2j * np.pi * f
+    base, rhs, term = _assemble(c, f, True, ze)
+    out = _full(base, rhs, term, jw, lg, list(c.ports))
     out[..., 0, 0] -= 1.0
     out[..., 1, 1] -= 1.0
     return out

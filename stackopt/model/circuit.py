@@ -25,6 +25,7 @@ from stackopt.model.fields import (
     Impedance,
     Inductance,
     Length,
+    NonNegativeFloat,
     NonNegativeLength,
     PositiveFloat,
     PositiveLength,
@@ -98,6 +99,7 @@ class Parasitics(BaseModel):
     added per stackup. ``mounted_esl`` is a *measured* mounted value: it replaces both
     ``esl`` and the mount model (the board no longer changes it). ``srf`` (inductors): the
     self-resonant frequency, modelled as a capacitance ``1/((2 pi srf)^2 L)`` in parallel.
+    ``tolerance``: the part's value tolerance (± fraction), used by the Monte Carlo yield.
     """
 
     model_config = FROZEN
@@ -108,6 +110,9 @@ class Parasitics(BaseModel):
     mount: Mount | None = None
     mounted_esl: Inductance | None = None
     srf: Frequency | None = None
+    tolerance: NonNegativeFloat | None = Field(
+        None, description="± fraction of the value (default by type, see "
+        "stackopt.analyses.tolerances.PART_TOLERANCE)")
 
     @model_validator(mode="after")
     def _q(self) -> Parasitics:
@@ -116,6 +121,8 @@ class Parasitics(BaseModel):
         if self.mounted_esl is not None and (self.mount is not None or self.esl):
             raise ValueError("'mounted_esl' (a measured mounted value) replaces 'esl' and "
                              "'mount'; give one or the other")
+        if self.tolerance is not None and self.tolerance >= 0.5:
+            raise ValueError("'tolerance' is a fraction of the value, e.g. '5 %'")
         return self
 
 

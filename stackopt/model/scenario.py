@@ -18,6 +18,7 @@ from stackopt.model.fields import (
     Frequency,
     Impedance,
     NonNegativeFloat,
+    NonNegativeLength,
     PositiveLength,
 )
 from stackopt.model.mitigations import MITIGATIONS, mitigation_error
@@ -30,6 +31,7 @@ __all__ = [
     "ThicknessWindow",
     "SpaceSpec",
     "SearchSpec",
+    "RobustnessSpec",
     "Scenario",
     "MITIGATIONS",
     "Objective",
@@ -212,6 +214,52 @@ class SpaceSpec(BaseModel):
         return self
 
 
+class RobustnessSpec(BaseModel):
+    """How a decision is tested against what the tool knows it does not know.
+
+    ``models``: via models every candidate is also scored under; its *robust margin* is
+    the worst margin over them at the nominal build. The default pair is the lowest
+    (Goldfarb-Pucel) and the highest (Johnson-Graham) single-via inductance of the four
+    models at every depth, i.e. the envelope of their spread; it costs one extra circuit
+    solve per phenotype. List all four for the strictest test.
+
+    Monte Carlo over the fab's and the parts' tolerances (``samples`` builds, Latin
+    hypercube from the search seed): the dielectric under the top copper (``thickness``, a
+    fraction; default the cost table's ``thickness_tolerance``), its Dk (``dk``, fraction),
+    etched trace width (``etch``, m) and drill (``drill``, m) as normal deviates with the
+    tolerance at 3 sigma (``distribution: uniform`` spreads them evenly over ± tolerance
+    instead), and every part's value uniform over ± its ``tolerance`` (default
+    :data:`stackopt.analyses.tolerances.PART_TOLERANCE`).
+    """
+
+    model_config = FROZEN
+    models: tuple[str, ...] = Field(default=("goldfarb-pucel", "johnson"), min_length=1,
+                                    description="keys of stackopt.physics.inductance."
+                                    "VIA_MODELS")
+    samples: int = Field(default=256, ge=16, le=100_000)
+    yield_target: float = Field(default=0.95, gt=0.0, le=1.0)
+    thickness: NonNegativeFloat | None = None
+    dk: NonNegativeFloat = 0.05
+    etch: NonNegativeLength = 25e-6
+    drill: NonNegativeLength = 25e-6
+    distribution: Literal["normal", "uniform"] = "normal"
+
+    @model_validator(mode="after")
+    def _check(self) -> RobustnessSpec:
+        if len(set(self.models)) != len(self.models):
+            raise ValueError("a via model is listed twice in robustness.models")
+        for m in self.models:
+            if m not in VIA_MODELS:
+                raise ValueError(f"unknown via model {m!r} in robustness.models"
+                                 f"{did_you_mean(m, VIA_MODELS)}; use some of: "
+                                 f"{', '.join(VIA_MODELS)}")
+        for k in ("thickness", "dk"):
+            v = getattr(self, k)
+            if v is not None and v >= 0.5:
+                raise ValueError(f"robustness.{k} is a fraction below 50 %, e.g. '10 %'")
+        return self
+
+
 class SearchSpec(BaseModel):
     """How to search: objective, method, budget, seed."""
 
@@ -232,6 +280,7 @@ class SearchSpec(BaseModel):
             raise ValueError(f"unknown via model {v!r}{did_you_mean(v, VIA_MODELS)}; use one "
                              f"of: {', '.join(VIA_MODELS)}")
         return v
+    robustness: RobustnessSpec = RobustnessSpec()
 
     @model_validator(mode="after")
     def _check(self) -> SearchSpec:

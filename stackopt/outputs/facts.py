@@ -49,11 +49,14 @@ def unique_picks(result) -> list[tuple[int, list[str]]]:
 
 
 def selected_index(result) -> int | None:
-    """The recommended candidate: the cheapest meeting the requirements, else the closest
-    feasible one, else the evaluated candidate with the best margin (``None``: nothing)."""
-    i = result.picks.get("cheapest_meeting_requirements")
-    if i is not None:
-        return int(i)
+    """The recommended candidate: the cheapest robust one (every requirement under every
+    listed via model and the yield target), else the cheapest meeting the requirements,
+    else the closest feasible one, else the evaluated candidate with the best margin
+    (``None``: nothing)."""
+    for name in ("cheapest_robust", "cheapest_meeting_requirements"):
+        i = result.picks.get(name)
+        if i is not None:
+            return int(i)
     close = result.closest(1)
     if close:
         return int(close[0])

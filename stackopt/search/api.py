@@ -6,12 +6,9 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import Literal
 
-import numpy as np
-
 from stackopt.errors import InputError
 from stackopt.model.costtable import CostTable
 from stackopt.model.scenario import Scenario
-from stackopt.physics.inductance import VIA_MODELS
 from stackopt.search.exact import exact_candidates, exact_cost
 from stackopt.search.memo import ResponseMemo
 from stackopt.search.problem import Problem
@@ -132,22 +129,7 @@ def optimize(
         evaluated = archive.evaluations
     ev = problem.evaluate(cands)
     result = Result(problem, cands, ev, method, evaluated, seed, stats=stats)
-    # model spread: the front and the picks re-scored under every via model
-    keep = np.zeros(len(cands), dtype=bool)
-    keep[result.on_front] = True
-    for v in result.picks.values():
-        if v is not None:
-            keep[v] = True
-    idx = np.flatnonzero(keep)
-    spread: dict[str, np.ndarray] = {}
-    sub = cands.take(idx)
-    g = problem.space.geometry(sub)
-    from stackopt.circuit.metrics import attenuation_db
+    from stackopt.analyses.robust import analyse
 
-    for m in VIA_MODELS:
-        s, _ = problem.response(g, m)
-        _, margin = problem.attenuation(attenuation_db(s))
-        full = np.full(len(cands), np.nan)
-        full[idx] = margin
-        spread[m] = full
-    return Result(problem, cands, ev, method, evaluated, seed, spread=spread, stats=stats)
+    # robust margins, model spread, yields, cheapest_robust, limits
+    return analyse(result)

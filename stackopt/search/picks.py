@@ -39,6 +39,9 @@ def _two_layer(r: Result):
 
 #: Named picks, in the order they are reported.
 PICKS: dict[str, Pick] = {
+    "cheapest_robust": Pick(  # found by stackopt.analyses.robust (needs yields)
+        lambda r: r.robust_pick, console="cheapest robust",
+        report="Cheapest robust (every listed model, yield target)", plot="robust"),
     "cheapest_meeting_requirements": Pick(
         lambda r: r.best(r.meets, "cost"), console="cheapest meeting requirements",
         report="Cheapest meeting the requirements", plot="cheapest OK"),
@@ -49,6 +52,7 @@ PICKS: dict[str, Pick] = {
         lambda r: r.best(_two_layer(r), "perf"), console="best two-layer",
         report="Best two-layer", plot="best 2L"),
     "best_overall": Pick(
-        lambda r: r.best(r.feasible, "perf"), console="best overall",
+        lambda r: r.best(r.feasible, "robust" if r.problem.scenario.search.objective
+                         == "margin" else "perf"), console="best overall",
         report="Best overall", plot="best"),
 }

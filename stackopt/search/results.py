@@ -17,7 +17,11 @@ from stackopt.search.picks import PICKS
 from stackopt.search.problem import Evaluation, Problem
 from stackopt.search.space import Candidates, candidate_stackup
 
-__all__ = ["Result", "PICKS"]
+__all__ = ["Result", "PICKS", "MODEL_DEPENDENT_DB"]
+
+#: A pick whose margin spread over the via models exceeds this is "model-dependent", dB
+#: (the size of disagreement that can reverse a ranking; common practice, no source).
+MODEL_DEPENDENT_DB = 3.0
 
 
 
@@ -38,6 +42,19 @@ class Result:
     seed: int
     spread: dict[str, np.ndarray] = field(default_factory=dict)  # via model -> margin
     stats: dict = field(default_factory=dict)
+    #: Margin (N,) of every candidate under each of ``search.robustness.models``.
+    robust: dict[str, np.ndarray] = field(default_factory=dict)
+    #: Monte Carlo yield (N,), NaN where not sampled (the front, the picks).
+    yields: np.ndarray | None = None
+    #: Controlled-impedance range over the builds (N, lines, 2) ohm, NaN where not sampled.
+    impedance_range: np.ndarray | None = None
+    #: Margin in every simulated build (S,) of the sampled picks, by candidate index.
+    build_margins: dict[int, np.ndarray] = field(default_factory=dict)
+    #: The cheapest candidate meeting every requirement under every listed model and
+    #: reaching the yield target (found by :mod:`stackopt.analyses.robust`).
+    robust_pick: int | None = None
+    #: What limits each pick's circuit (:mod:`stackopt.analyses.limits`), by pick name.
+    limits: dict[str, dict] = field(default_factory=dict)
 
     # ---- basic views -------------------------------------------------------------------
     @property
@@ -64,6 +81,25 @@ class Result:
     def meets(self) -> np.ndarray:
         """Feasible and every attenuation requirement met."""
         return self.feasible & (self.evaluation.margin >= 0)
+
+    @cached_property
+    def robust_margin(self) -> np.ndarray:
+        """Worst margin over ``search.robustness.models`` (N,) (the nominal margin until
+        the robust margins are computed)."""
+        if not self.robust:
+            return self.evaluation.margin
+        return np.min(np.stack(list(self.robust.values())), axis=0)
+
+    @cached_property
+    def robust_meets(self) -> np.ndarray:
+        """Feasible and every requirement met under every listed via model (N,)."""
+        return self.meets & (self.robust_margin >= 0)
+
+    @cached_property
+    def yield_or_low(self) -> np.ndarray:
+        """Yields with -1 where not sampled (for ranking)."""
+        return np.full(self.n, -1.0) if self.yields is None else np.nan_to_num(
+            self.yields, nan=-1.0)
 
     @cached_property
     def objectives(self) -> np.ndarray:
@@ -110,6 +146,9 @@ class Result:
         cx = self.complexity[idx]
         if by == "cost":  # cheapest; ties by better electrical objective, then simplest
             order = np.lexsort((idx, cx, self.objectives[idx, 1], ev.unit_cost[idx]))
+        elif by == "robust":  # best robust margin; ties by yield, cost, then simplest
+            order = np.lexsort((idx, cx, ev.unit_cost[idx], -self.yield_or_low[idx],
+                                -self.robust_margin[idx]))
         else:  # best electrical objective; ties by cost, then simplest
             order = np.lexsort((idx, cx, ev.unit_cost[idx], self.objectives[idx, 1]))
         return int(idx[order[0]])
@@ -122,8 +161,9 @@ class Result:
 
     def prepreg_pick(self) -> list[dict]:
         """For each dielectric used between the top copper and its plane (by a feasible
-        candidate): the best margin reached with it and the cheapest stackup using it that
-        meets every requirement. Sorted by best margin, best first."""
+        candidate): the best robust margin reached with it (ties: yield, then
+        cost) and the cheapest stackup using it that meets every requirement. Sorted by
+        best robust margin, best first."""
         feas = np.flatnonzero(self.feasible)
         if not len(feas):
             return []
@@ -132,19 +172,22 @@ class Result:
         out: list[dict[str, Any]] = []
         for name in sorted(set(names[feas])):  # a few dozen catalogue options at most
             rows = feas[names[feas] == name]
-            best = int(rows[np.lexsort((ev.unit_cost[rows], -ev.margin[rows]))[0]])
+            best = int(rows[np.lexsort((ev.unit_cost[rows], -self.yield_or_low[rows],
+                                        -self.robust_margin[rows]))[0]])
             ok = rows[self.meets[rows]]
             cheap = (int(ok[np.lexsort((-ev.margin[ok], ev.unit_cost[ok]))[0]])
                      if len(ok) else None)
             out.append({"top_dielectric": str(name), "er": _num(ev.geometry.trace_er[best]),
                         "thickness_m": _num(ev.geometry.trace_height[best]),
-                        "best_margin_dB": _num(ev.margin[best]), "best_id": self.ids[best],
+                        "best_margin_dB": _num(ev.margin[best]),
+                        "best_robust_margin_dB": _num(self.robust_margin[best]),
+                        "best_id": self.ids[best],
                         "best_index": best,
                         "cheapest_meeting_id": None if cheap is None else self.ids[cheap],
                         "cheapest_meeting_index": cheap,
                         "cheapest_meeting_unit_cost": (None if cheap is None
                                                        else _num(ev.unit_cost[cheap]))})
-        out.sort(key=lambda r: (-r["best_margin_dB"], r["top_dielectric"]))
+        out.sort(key=lambda r: (-r["best_robust_margin_dB"], r["top_dielectric"]))
         return out
 
     def closest(self, k: int = 3) -> list[int]:
@@ -206,6 +249,22 @@ class Result:
         }
         if self.spread:
             out["margin_by_model_dB"] = {m: _num(v[i]) for m, v in self.spread.items()}
+            sp = [float(v[i]) for v in self.spread.values() if np.isfinite(v[i])]
+            out["model_spread_dB"] = _num(max(sp) - min(sp)) if sp else None
+            out["model_dependent"] = bool(sp) and max(sp) - min(sp) > MODEL_DEPENDENT_DB
+        if self.robust:
+            out["robust_margin_dB"] = _num(self.robust_margin[i])
+            out["meets_under_every_model"] = bool(self.robust_meets[i])
+        if self.yields is not None and np.isfinite(self.yields[i]):
+            n_builds = self.problem.scenario.search.robustness.samples
+            p = float(self.yields[i])
+            out["yield"] = p
+            out["yield_standard_error"] = math.sqrt(p * (1 - p) / n_builds)
+            if self.impedance_range is not None:
+                out["impedance_range_ohm"] = {
+                    ln.name: [_num(self.impedance_range[i, j, 0]),
+                              _num(self.impedance_range[i, j, 1])]
+                    for j, ln in enumerate(sc.lines)}
         return out
 
     @cached_property
@@ -295,6 +354,14 @@ class Result:
             "stats": {k: (int(v) if isinstance(v, int | np.integer) else v)
                       for k, v in self.stats.items()},
         }
+        if self.robust:
+            rb = sc.search.robustness
+            out["robustness"] = {"models": list(rb.models), "samples": rb.samples,
+                                 "yield_target": rb.yield_target,
+                                 "distribution": rb.distribution,
+                                 "model_dependent_above_dB": MODEL_DEPENDENT_DB}
+        if self.limits:
+            out["limits"] = self.limits
         if extra:
             out.update(extra)
         return out

@@ -1,0 +1,131 @@
+"""Robust margin: the worst margin over the listed via models at the nominal build.
+
+The four single-via models disagree by 2-8x (see :mod:`stackopt.physics.inductance`); a
+board whose margin holds under each of them does not hinge on that choice. Each model
+costs one more circuit solve per electrical phenotype (:meth:`Problem.response`), never
+one per candidate.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from dataclasses import replace
+
+import numpy as np
+
+from stackopt.analyses.limits import pick_limits
+from stackopt.analyses.tolerances import build_draws, monte_carlo
+from stackopt.circuit.metrics import attenuation_db
+from stackopt.physics.inductance import VIA_MODELS
+from stackopt.search.problem import Problem
+from stackopt.search.results import Result
+from stackopt.search.space import Geometry
+
+__all__ = ["margin_under", "margins_by_model", "robust_margin", "analyse", "ROBUST_CHUNK"]
+
+#: Candidates sampled per Monte Carlo batch while looking for the cheapest robust one.
+ROBUST_CHUNK = 32
+
+
+def margin_under(problem: Problem, g: Geometry, model: str) -> np.ndarray:
+    """Margin [dB] (N,) of a batch under one via model, solved once per phenotype; a
+    non-finite response counts as a failure (-999 dB), as in the search's evaluation."""
+    s, _ = problem.response(g, model)
+    _, margin = problem.attenuation(attenuation_db(s))
+    return np.nan_to_num(margin, nan=-999.0, posinf=999.0, neginf=-999.0)
+
+
+def margins_by_model(problem: Problem, g: Geometry, models: Iterable[str],
+                     known: Mapping[str, np.ndarray] | None = None) -> dict[str, np.ndarray]:
+    """Margin [dB] (N,) of a batch under each model; ``known`` margins (e.g. the ranking
+    model's, already in the evaluation) are reused, not solved again."""
+    known = known or {}
+    return {m: (np.asarray(known[m]) if m in known else margin_under(problem, g, m))
+            for m in models}
+
+
+def robust_margin(margins: Mapping[str, np.ndarray]) -> np.ndarray:
+    """Worst margin [dB] over the models, elementwise (N,)."""
+    return np.min(np.stack(list(margins.values())), axis=0)
+
+
+class _Sampler:
+    """Monte Carlo yields and impedance ranges, filled in batches of candidates."""
+
+    def __init__(self, result: Result) -> None:
+        self.result = result
+        self.problem = result.problem
+        self.draws = build_draws(self.problem)
+        n, lines = result.n, len(self.problem.scenario.lines)
+        self.yields = np.full(n, np.nan)
+        self.zrange = np.full((n, lines, 2), np.nan)
+        self.margins: dict[int, np.ndarray] = {}
+
+    def sample(self, idx: np.ndarray) -> None:
+        """Build every not yet sampled candidate of ``idx`` ``S`` times (one batch)."""
+        idx = np.unique(np.asarray(idx, dtype=np.int64))
+        idx = idx[np.isnan(self.yields[idx])]
+        if not len(idx):
+            return
+        r = self.result
+        g = self.problem.space.geometry(r.candidates.take(idx))
+        mc = monte_carlo(self.problem, g, r.evaluation.widths[idx],
+                         self.problem.scenario.search.via_model, self.draws)
+        self.yields[idx] = mc.yields
+        self.zrange[idx, :, 0] = mc.impedance_min
+        self.zrange[idx, :, 1] = mc.impedance_max
+        self.margins.update(zip(idx.tolist(), mc.margin, strict=True))
+
+
+def _cheapest_robust(r: Result, sampler: _Sampler) -> int | None:
+    """The cheapest candidate meeting every requirement under every listed model whose
+    yield reaches the target; candidates are sampled cheapest first, a batch at a time."""
+    target = r.problem.scenario.search.robustness.yield_target
+    idx = np.flatnonzero(r.robust_meets)
+    order = idx[np.lexsort((idx, r.complexity[idx], -r.robust_margin[idx],
+                            r.evaluation.unit_cost[idx]))]
+    for i0 in range(0, len(order), ROBUST_CHUNK):  # batches, usually only the first
+        chunk = order[i0:i0 + ROBUST_CHUNK]
+        sampler.sample(chunk)
+        ok = chunk[sampler.yields[chunk] >= target - 1e-12]
+        if len(ok):
+            return int(ok[0])
+    return None
+
+
+def analyse(result: Result) -> Result:
+    """The search's result with robust margins (every candidate), the model spread and
+    Monte Carlo yields (the front and the picks), the ``cheapest_robust`` pick and what
+    limits each pick's circuit.
+
+    Cost: one more solve per phenotype for each listed model other than the ranking
+    one; one batch of ``samples`` builds per sampled candidate.
+    """
+    problem, ev = result.problem, result.evaluation
+    sc = problem.scenario
+    rank = sc.search.via_model
+    robust = margins_by_model(problem, ev.geometry, sc.search.robustness.models,
+                              known={rank: ev.margin})
+    r = replace(result, robust=robust)
+    sampler = _Sampler(r)
+    keep = r.on_front.copy()
+    for v in r.picks.values():
+        if v is not None:
+            keep[v] = True
+    sampler.sample(np.flatnonzero(keep))
+    pick = _cheapest_robust(r, sampler)
+    r = replace(r, yields=sampler.yields, impedance_range=sampler.zrange, robust_pick=pick)
+    picked = np.array([v for v in r.picks.values() if v is not None], dtype=np.int64)
+    sampler.sample(picked)  # a tie broken by yield may pick an unsampled candidate
+    keep[picked] = True
+    idx = np.flatnonzero(keep)
+    g = problem.space.geometry(result.candidates.take(idx))
+    known = {m: v[idx] for m, v in robust.items()}
+    spread = {}
+    for m, v in margins_by_model(problem, g, VIA_MODELS, known=known).items():
+        full = np.full(result.n, np.nan)
+        full[idx] = v
+        spread[m] = full
+    r = replace(r, spread=spread, yields=sampler.yields, impedance_range=sampler.zrange,
+                build_margins={i: sampler.margins[i] for i in picked.tolist()})
+    return replace(r, limits=pick_limits(r))
