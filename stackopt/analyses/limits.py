@@ -6,7 +6,9 @@ grounds (the circuit alone, :func:`stackopt.analyses.ideal.ideal_ground`), with 
 (mutual couplings between connections off), and with everything. The losses between
 them name the mechanism:
 
-- ``circuit``: even with ideal grounds a requirement fails — no stackup can fix it;
+- ``circuit``: even with ideal grounds a requirement fails — no stackup can fix it (a
+  board may still meet where its ground inductance tunes a resonance onto the
+  requirement, a margin that rests on the via model);
 - ``stackup_self_inductance``: the self inductance costs more than the coupling;
 - ``ground_coupling``: the coupling between connections costs more;
 - ``none``: the board reaches within :data:`NONE_DB` of its ideal-ground margin.
@@ -97,6 +99,13 @@ def limit_sentence(d: dict, pair: tuple[str, str] | None = None) -> str:
     """One plain-words sentence on what limits the circuit (from a ``limits`` entry)."""
     a = d["binding_attenuation_dB"]
     req, mech = d["binding"], d["mechanism"]
+    if mech == "circuit" and a["full"] >= a["required"]:
+        return (f"With ideal grounds this circuit reaches only {a['ideal']:.1f} dB at the "
+                f"{req} ({a['required']:.0f} dB required): the parts limit it, and this "
+                f"board ({a['full']:.1f} dB) meets only because its ground inductance tunes "
+                "the shunt parts' series resonance towards that frequency — a margin that "
+                "rests on the via model; change the parts or the circuit for one that does "
+                "not.")
     if mech == "circuit":
         return (f"Even with ideal grounds this circuit reaches only {a['ideal']:.1f} dB at "
                 f"the {req} ({a['required']:.0f} dB required): the parts' own values and "

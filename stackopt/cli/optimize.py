@@ -12,6 +12,7 @@ from stackopt.cli.registry import help_of
 from stackopt.cli.text import say as _say
 from stackopt.errors import InputError
 from stackopt.outputs.facts import money
+from stackopt.outputs.robust_text import limit_line, recommendation_line, robust_cells
 from stackopt.search.picks import PICKS
 
 
@@ -151,12 +152,24 @@ def say_result(result, say) -> None:
         label = pick.console
         i = result.picks[key]
         if i is None:
-            rows.append([label, "-", "-", "-", "-", "none"])
+            rows.append([label, "-", "-", "-", "-", "none", "-", "-"])
             continue
         rec = result.record(i)
         rows.append([label, rec["id"], str(rec["layers"]), money(rec["unit_cost"], cur),
-                     money(rec["lot_cost"], cur), f"{rec['margin_dB']:+.1f} dB"])
-    say(table(rows, ["pick", "id", "layers", "per board", "per lot", "margin"]))
+                     money(rec["lot_cost"], cur), f"{rec['margin_dB']:+.1f} dB",
+                     *robust_cells(result, i)])
+    say(table(rows, ["pick", "id", "layers", "per board", "per lot", "margin",
+                     "worst over models", "yield"]))
+    line = recommendation_line(result, cur)
+    if line:
+        say(f"  recommended: {line}")
+    from stackopt.outputs.facts import selected_index
+
+    sel = selected_index(result)
+    for name, i in result.picks.items():  # the recommendation's limit, in plain words
+        if i is not None and i == sel and limit_line(result, name):
+            say(f"  what limits it: {limit_line(result, name)}")
+            break
     if not result.feasible.any():
         say("  No candidate satisfies the fab's and the scenario's constraints. Nearest:")
         for i in result.closest(3):
