@@ -2,9 +2,9 @@
 or the coupling between ground connections (a shared return path).
 
 For each pick the margin is solved three ways under the ranking via model: with ideal
-grounds (the circuit alone, :func:`stackopt.analyses.ideal.ideal_ground`), with each ground connection's self inductance only
-(mutual couplings between connections off), and with everything. The losses between
-them name the mechanism:
+grounds (the circuit alone, :func:`stackopt.analyses.ideal.ideal_ground`), with each
+ground connection's self inductance only (mutual couplings between connections off),
+and with everything. The losses between them name the mechanism:
 
 - ``circuit``: even with ideal grounds a requirement fails — no stackup can fix it (a
   board may still meet where its ground inductance tunes a resonance onto the
