@@ -90,6 +90,9 @@ class GroundBatch:
         default all False
     pour_gap : pad-to-pour clearance of the coplanar pour [m], > 0; default
         :data:`DEFAULT_POUR_GAP`
+    via_scale : factor on the via model's self and mutual inductances, > 0; default 1.
+        A calibration file's factor for the model in use (``stackopt fit``); the pad
+        traces are not scaled (the coupons measure vias).
     """
 
     height: np.ndarray
@@ -100,11 +103,12 @@ class GroundBatch:
     copper: np.ndarray
     coplanar: np.ndarray | None = None
     pour_gap: np.ndarray | None = None
+    via_scale: np.ndarray | None = None
 
     def __post_init__(self) -> None:
         kinds = {"vias": int, "via_in_pad": bool, "own_vias": bool, "coplanar": bool}
         n = np.shape(self.height)
-        defaults = {"coplanar": False, "pour_gap": DEFAULT_POUR_GAP}
+        defaults = {"coplanar": False, "pour_gap": DEFAULT_POUR_GAP, "via_scale": 1.0}
         arrs: dict[str, np.ndarray] = {}
         for f in fields(self):
             v = getattr(self, f.name)
@@ -115,7 +119,7 @@ class GroundBatch:
         if len(shapes) != 1 or len(next(iter(shapes))) != 1:
             raise InputError(f"GroundBatch arrays must be 1-D of one length, got {shapes}",
                              fix="use GroundBatch.broadcast(...) for scalars")
-        for name in ("height", "drill", "copper", "pour_gap"):
+        for name in ("height", "drill", "copper", "pour_gap", "via_scale"):
             if not np.all(np.isfinite(arrs[name]) & (arrs[name] > 0)):
                 raise InputError(f"GroundBatch.{name} must be finite and > 0",
                                  fix="give SI metres")
@@ -129,11 +133,12 @@ class GroundBatch:
     def broadcast(cls, height: ArrayLike, drill: ArrayLike = 0.3e-3, vias: ArrayLike = 1,
                   via_in_pad: ArrayLike = False, own_vias: ArrayLike = False,
                   copper: ArrayLike = 35e-6, coplanar: ArrayLike = False,
-                  pour_gap: ArrayLike = DEFAULT_POUR_GAP) -> GroundBatch:
+                  pour_gap: ArrayLike = DEFAULT_POUR_GAP, via_scale: ArrayLike = 1.0
+                  ) -> GroundBatch:
         """Build a batch from scalars or arrays, broadcast to one length N."""
         arrs = np.broadcast_arrays(*(np.atleast_1d(x) for x in
                                      (height, drill, vias, via_in_pad, own_vias, copper,
-                                      coplanar, pour_gap)))
+                                      coplanar, pour_gap, via_scale)))
         return cls(*(np.array(a) for a in arrs))
 
     @property
@@ -267,6 +272,8 @@ def ground_parts(compiled: CompiledCircuit, batch: GroundBatch, model: str = "go
             guard_t = np.ones((n, g0))
             guard_t[sel] = a
             guard = np.minimum(guard, guard_t.min(axis=1))
+    scale = np.asarray(batch.via_scale)[:, None]  # calibration: via self and mutual terms
+    lvia = lvia * scale
     conn = compiled.terminal_conn[:g0]
     trace = compiled.conn_trace_length[conn][None, :]
     bridge = np.minimum(trace, np.asarray(batch.pour_gap)[:, None])  # pad-to-pour
@@ -286,7 +293,7 @@ def ground_parts(compiled: CompiledCircuit, batch: GroundBatch, model: str = "go
         s = np.hypot(diff[..., 0], diff[..., 1])  # (N, P, V, V)
         pair = mask[:, i, :, None] & mask[:, j, None, :]
         dd = 0.5 * (drill[:, i] + drill[:, j])[..., None, None]
-        m = via_mutual_inductance(h[..., None, None], np.maximum(s, dd))
+        m = via_mutual_inductance(h[..., None, None], np.maximum(s, dd)) * scale[..., None, None]
         mean = np.zeros((n, g0, g0))
         mean[:, i, j] = (m * pair).sum(axis=(-1, -2)) / pair.sum(axis=(-1, -2))
         mean[:, j, i] = mean[:, i, j]

@@ -30,8 +30,10 @@ class Inputs:
         return out
 
 
-def load_inputs(scenario: str | None, costs: str | None) -> Inputs:
-    """Scenario and cost table from the command line (built-in demo when none given)."""
+def load_inputs(scenario: str | None, costs: str | None, calibration: str | None = None
+                ) -> Inputs:
+    """Scenario and cost table from the command line (built-in demo when none given);
+    ``calibration`` (``--calibration``) replaces the scenario's ``search.calibration``."""
     from stackopt.inputs.costtable import load_cost_table
     from stackopt.inputs.scenario import demo_paths, load_scenario, scenario_cost_table_path
 
@@ -41,6 +43,10 @@ def load_inputs(scenario: str | None, costs: str | None) -> Inputs:
     else:
         s_path, demo_costs = Path(scenario), None
     sc = load_scenario(s_path)
+    if calibration is not None:
+        from stackopt.inputs.calibration import with_calibration
+
+        sc = with_calibration(sc, s_path, calibration)
     t_path = (Path(costs) if costs is not None
               else scenario_cost_table_path(sc, s_path) or demo_costs)
     if t_path is None:

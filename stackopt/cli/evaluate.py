@@ -23,6 +23,9 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("scenario", help="scenario YAML")
     p.add_argument("--stackup", metavar="FILE", required=True, help="stackup YAML")
     p.add_argument("--costs", metavar="TABLE", help="fab cost table YAML")
+    p.add_argument("--calibration", metavar="CAL.yaml",
+                   help="calibration file from 'stackopt fit' (default: the scenario's "
+                   "search.calibration): scales the via model's inductances by its factor")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.set_defaults(func=run)
 
@@ -33,7 +36,7 @@ def run(args: argparse.Namespace) -> int:
     from stackopt.search.problem import Problem
     from stackopt.search.single import evaluate_stackup
 
-    inp = load_inputs(args.scenario, args.costs)
+    inp = load_inputs(args.scenario, args.costs, args.calibration)
     sf = load_selected(args.stackup)
     problem = Problem(inp.scenario, inp.table)
     ev = evaluate_stackup(problem, sf, args.stackup)
@@ -63,6 +66,9 @@ def run(args: argparse.Namespace) -> int:
         "lead_time_days": float(ev.lead_time_days[0]), "currency": inp.table.currency,
         "cost_items": {k: float(v[0]) for k, v in ev.cost_items.items()},
         "violations": ev.violated(0),
+        "via_model": sc.search.via_model,
+        "calibration": (None if sc.search.calibration is None
+                        else sc.search.calibration.echo()),  # type: ignore[union-attr]
     }
     if args.json:
         say(json.dumps(out, indent=2))
@@ -71,7 +77,9 @@ def run(args: argparse.Namespace) -> int:
     say(f"{out['layers']} layers, {fq(out['thickness_m'], 'length')} finished; ground plane "
           f"{fq(out['ground_plane_depth_m'], 'length')} under the top")
     say(f"ground connections: {fq(out['ground_inductance_H'], 'inductance')} in all "
-          f"({inp.scenario.search.via_model})")
+          f"({inp.scenario.search.via_model}"
+          + (f", calibrated x{sc.search.via_scale(sc.search.via_model):.3g} by "
+             f"{out['calibration']['file']}" if out["calibration"] else "") + ")")
     if grounds:
         say(table([[r["name"]] + [fq(r[k], "inductance") for k in
                                   ("via_H", "trace_H", "mount_H", "total_H")]

@@ -30,6 +30,9 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--costs", metavar="TABLE", action="append",
                    help="fab cost table YAML (default: the one the scenario names); give it "
                    "again for each further fab to compare the fabs in one run")
+    p.add_argument("--calibration", metavar="CAL.yaml",
+                   help="calibration file from 'stackopt fit' (default: the scenario's "
+                   "search.calibration): scales the via model's inductances by its factor")
     p.add_argument("--quantities", metavar="N,N,...", type=lot_sizes,
                    help="also choose the picks at these lot sizes, e.g. 100,1000,10000 "
                    "(default: the scenario's board.quantities)")
@@ -94,7 +97,7 @@ def run(args: argparse.Namespace) -> int:
     out = Path(args.out) if args.out is not None else None
     if out is not None:  # a bad --out is refused before the inputs are even read
         out = prepare_out_dir(out, args.force)
-    inp = load_inputs(args.scenario, costs[0] if costs else None)
+    inp = load_inputs(args.scenario, costs[0] if costs else None, args.calibration)
     if out is None:
         out = prepare_out_dir(default_out(inp.scenario.name,
                                           inp.table.fab if costs else None), args.force)

@@ -2,43 +2,18 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from pathlib import Path
 
 from stackopt.errors import InputError
 from stackopt.inputs.validate import validate_model
 from stackopt.inputs.yamlio import load_yaml
-from stackopt.model.calibration import CALIBRATION_VERSION, CalibrationData
+from stackopt.model.calibration import CALIBRATION_VERSION, CalibrationData, CalibrationRef
+from stackopt.model.scenario import Scenario
 
-__all__ = ["LoadedCalibration", "load_calibration", "resolve_calibration_path"]
-
-
-@dataclass(frozen=True)
-class LoadedCalibration:
-    """A calibration file's content with where it came from."""
-
-    path: Path
-    sha256: str
-    data: CalibrationData
-
-    def factors(self) -> dict[str, float]:
-        """Factor per via model."""
-        return {m: r.factor for m, r in self.data.factors.items()}
-
-    def echo(self) -> dict:
-        """What ``summary.json`` records: ``{file, sha256, factors, coupons}``."""
-        return {
-            "file": str(self.path), "sha256": self.sha256, "factors": self.factors(),
-            "best_model": self.data.best_model,
-            "coupons": [{"name": c.name, "kind": c.kind, "file": c.file,
-                         "sha256": c.sha256, "rms_error_dB": c.rms_error_dB,
-                         "residuals": {m: r.residuals[c.name]
-                                       for m, r in self.data.factors.items()
-                                       if c.name in r.residuals}}
-                        for c in self.data.coupons]}
+__all__ = ["load_calibration", "resolve_calibration_path", "with_calibration"]
 
 
-def load_calibration(path: str | Path) -> LoadedCalibration:
+def load_calibration(path: str | Path) -> CalibrationRef:
     """Read and validate a calibration file."""
     import hashlib
 
@@ -51,7 +26,8 @@ def load_calibration(path: str | Path) -> LoadedCalibration:
                         ["stackopt_calibration"],
                         fix="write it with 'stackopt fit COUPON.s2p ... --write FILE'")
     cal = validate_model(CalibrationData, doc)
-    return LoadedCalibration(p, hashlib.sha256(p.read_bytes()).hexdigest(), cal)
+    return CalibrationRef(file=str(p), sha256=hashlib.sha256(p.read_bytes()).hexdigest(),
+                          data=cal)
 
 
 def resolve_calibration_path(name: str, scenario_path: str | Path | None) -> Path:
@@ -67,3 +43,18 @@ def resolve_calibration_path(name: str, scenario_path: str | Path | None) -> Pat
                          fix="write one with 'stackopt fit COUPON.s2p --depth D --drill D "
                          "--write cal.yaml'")
     return p
+
+
+def with_calibration(scenario: Scenario, scenario_path: str | Path | None,
+                     override: str | None = None) -> Scenario:
+    """The scenario with its calibration file loaded into ``search.calibration``:
+    ``override`` (``--calibration``, relative to the working directory) wins over the
+    scenario's own ``search.calibration`` (relative to the scenario file); unchanged when
+    neither names one."""
+    name = override if override is not None else scenario.search.calibration
+    if name is None or isinstance(name, CalibrationRef):
+        return scenario
+    path = resolve_calibration_path(str(name), None if override is not None else scenario_path)
+    ref = load_calibration(path)
+    search = scenario.search.model_copy(update={"calibration": ref})
+    return scenario.model_copy(update={"search": search})

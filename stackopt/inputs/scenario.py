@@ -20,7 +20,9 @@ def load_scenario(path: str | Path) -> Scenario:
     doc = load_yaml(path)
     scenario = validate_model(Scenario, doc)
     check_scenario(scenario, doc)  # physical ranges: errors, and warnings for odd values
-    return scenario
+    from stackopt.inputs.calibration import with_calibration
+
+    return with_calibration(scenario, path)  # search.calibration: the file, loaded
 
 
 def scenario_cost_table_path(scenario: Scenario, scenario_path: str | Path) -> Path | None:

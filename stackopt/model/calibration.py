@@ -16,7 +16,7 @@ from pydantic import BaseModel, Field, model_validator
 from stackopt.model.fields import FROZEN
 
 __all__ = ["CALIBRATION_VERSION", "ModelRatio", "CouponRecord", "FactorRecord",
-           "CalibrationData"]
+           "CalibrationData", "CalibrationRef"]
 
 #: The format version written in the file's first key.
 CALIBRATION_VERSION = 1
@@ -119,3 +119,36 @@ class CalibrationData(BaseModel):
         f = self.factors
         return min(f, key=lambda m: (-f[m].coupons, round(f[m].rms_log_error, 9),
                                      abs(math.log(f[m].factor))))
+
+
+class CalibrationRef(BaseModel):
+    """A loaded calibration file as a scenario carries it (``search.calibration``): where
+    it came from and its content."""
+
+    model_config = FROZEN
+    file: str
+    sha256: str
+    data: CalibrationData
+
+    def factor(self, model: str) -> float:
+        """The factor on via model ``model``'s inductances (1.0 when no coupon
+        calibrates it)."""
+        k = self.data.factor(model)
+        return 1.0 if k is None else k
+
+    def factors(self) -> dict[str, float]:
+        """Factor per calibrated via model."""
+        return {m: r.factor for m, r in self.data.factors.items()}
+
+    def echo(self) -> dict:
+        """What ``summary.json`` records: ``{file, sha256, factors, best_model, coupons}``,
+        each coupon with its fit error and its residual under every model's factor."""
+        d = self.data
+        return {
+            "file": self.file, "sha256": self.sha256, "factors": self.factors(),
+            "best_model": d.best_model,
+            "coupons": [{"name": c.name, "kind": c.kind, "file": c.file, "sha256": c.sha256,
+                         "rms_error_dB": c.rms_error_dB,
+                         "residuals": {m: r.residuals[c.name] for m, r in d.factors.items()
+                                       if c.name in r.residuals}}
+                        for c in d.coupons]}

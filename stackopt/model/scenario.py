@@ -11,6 +11,7 @@ from typing import Literal
 from pydantic import BaseModel, Field, field_validator, model_validator
 
 from stackopt.errors import did_you_mean
+from stackopt.model.calibration import CalibrationRef
 from stackopt.model.circuit import Circuit
 from stackopt.model.fields import (
     FROZEN,
@@ -272,6 +273,9 @@ class SearchSpec(BaseModel):
     seed: int = Field(default=1, ge=0, le=2**32 - 1)
     via_model: str = Field(default=DEFAULT_VIA_MODEL, description="a key of "
                            ":data:`stackopt.physics.inductance.VIA_MODELS`")
+    calibration: str | CalibrationRef | None = Field(
+        default=None, description="calibration file written by 'stackopt fit', relative to "
+        "the scenario file; once loaded, its content")
 
     @field_validator("via_model")
     @classmethod
@@ -281,6 +285,26 @@ class SearchSpec(BaseModel):
                              f"of: {', '.join(VIA_MODELS)}")
         return v
     robustness: RobustnessSpec = RobustnessSpec()
+
+    def via_scale(self, model: str) -> float:
+        """The calibration factor on via model ``model``'s inductances (1 uncalibrated).
+
+        Raises
+        ------
+        InputError
+            When ``calibration`` still holds a file name (not loaded through
+            :func:`stackopt.inputs.scenario.load_scenario`).
+        """
+        if self.calibration is None:
+            return 1.0
+        if isinstance(self.calibration, str):
+            from stackopt.errors import InputError
+
+            raise InputError(f"calibration file {self.calibration!r} was named but not loaded",
+                             key="search.calibration",
+                             fix="load the scenario with stackopt.inputs.scenario."
+                             "load_scenario (or stackopt.inputs.calibration.with_calibration)")
+        return self.calibration.factor(model)
 
     @model_validator(mode="after")
     def _check(self) -> SearchSpec:

@@ -207,6 +207,9 @@ def report_document(result, sweep=None) -> list[tuple]:
                ("img", "stackups", "Cross-sections of the picks."),
                ("img", "costs", "Itemised cost per board of the picks."),
                ("img", "prepregs", "Choice of the dielectric under the top copper.")]
+    from stackopt.outputs.report_calibration import calibration_section
+
+    blocks += calibration_section(result)
     blocks += spread_table(result)
     if sweep is not None:
         from stackopt.outputs.sweep import sweep_section

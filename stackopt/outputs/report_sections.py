@@ -11,6 +11,7 @@ import numpy as np
 from stackopt.model.mitigations import MITIGATIONS
 from stackopt.outputs.facts import comparison, db, mm, selected_index, unique_picks
 from stackopt.search.picks import PICKS
+from stackopt.outputs.report_calibration import calibration_note
 
 __all__ = ["risks", "stackup_table", "spread_table", "assumptions", "cautions",
            "method_line", "OZ", "WIDE_TRACE", "THIN_DIELECTRIC", "SAFETY_CAUTION"]
@@ -183,8 +184,8 @@ def assumptions(result) -> list[str]:
         f"Circuit: the scenario's circuit at {sc.circuit.z0:g} ohm, solved by nodal "
         "analysis with each ground connection's partial inductance (pad trace plus vias, "
         "mutual inductance between vias) in series with its element.",
-        f"Ground-via model for ranking: {sc.search.via_model}; the model spread re-scores the "
-        "front and the picks under every via model.",
+        f"Ground-via model for ranking: {sc.search.via_model}{calibration_note(result)}; the "
+        "model spread re-scores the front and the picks under every via model.",
         "Controlled-impedance widths: closed-form microstrip / grounded-coplanar synthesis on "
         "the dielectric under the top copper, with the catalogue Dk.",
         "Stackups: foil lamination, outer dielectrics prepreg, inner ones alternating core / "

@@ -177,16 +177,19 @@ class Problem:
         gaps = [ln.gap for ln in self.scenario.lines if ln.gap is not None]
         return float(gaps[0]) if gaps else DEFAULT_POUR_GAP
 
-    def ground_batch(self, g: Geometry) -> GroundBatch:
+    def ground_batch(self, g: Geometry, model: str | None = None) -> GroundBatch:
         """The circuit's view of a batch: ground-via height, drill, vias and switches
-        (``coplanar``: a stitched ground pour, see :mod:`stackopt.circuit.grounds`)."""
+        (``coplanar``: a stitched ground pour, see :mod:`stackopt.circuit.grounds`), and
+        the calibration factor of via model ``model`` (default the scenario's)."""
         n = len(g)
         off = np.zeros(n, dtype=bool)
+        search = self.scenario.search
         return GroundBatch(height=g.via_height, drill=g.drill, vias=g.vias,
                            via_in_pad=g.flags.get("via_in_pad", off),
                            own_vias=g.flags.get("own_vias", off), copper=g.copper,
                            coplanar=g.flags.get("coplanar", off),
-                           pour_gap=np.full(n, self.pour_gap))
+                           pour_gap=np.full(n, self.pour_gap),
+                           via_scale=np.full(n, search.via_scale(model or search.via_model)))
 
     def line_batch(self, g: Geometry, line: int) -> LineBatch:
         """What the width synthesis of scenario line ``line`` receives for a batch."""
@@ -205,7 +208,7 @@ class Problem:
         """(S (N, F, 2, 2), ground inductance sum (N,)), computed once per distinct ground
         batch (the circuit's whole input) and broadcast back."""
         model = model or self.scenario.search.via_model
-        gb = self.ground_batch(g)
+        gb = self.ground_batch(g, model)
         key = batch_key(gb)
         first, inv = unique_rows(key)
         s = np.empty((len(first), len(self.freqs), 2, 2), dtype=complex)

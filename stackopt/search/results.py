@@ -341,6 +341,9 @@ class Result:
             "version": __version__,
             "objective": sc.search.objective,
             "via_model": sc.search.via_model,
+            "calibration": (sc.search.calibration.echo()
+                            if sc.search.calibration is not None
+                            and not isinstance(sc.search.calibration, str) else None),
             "space_size": int(self.space_size),
             "evaluated": int(self.evaluated),
             "requirements": [{"key": r.key, "label": r.label,
