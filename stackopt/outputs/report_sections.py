@@ -10,8 +10,8 @@ import numpy as np
 
 from stackopt.model.mitigations import MITIGATIONS
 from stackopt.outputs.facts import comparison, db, mm, selected_index, unique_picks
-from stackopt.search.picks import PICKS
 from stackopt.outputs.report_calibration import calibration_note
+from stackopt.search.picks import PICKS
 
 __all__ = ["risks", "stackup_table", "spread_table", "assumptions", "cautions",
            "method_line", "OZ", "WIDE_TRACE", "THIN_DIELECTRIC", "SAFETY_CAUTION"]
