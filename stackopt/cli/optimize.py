@@ -193,12 +193,12 @@ def say_result(result, say) -> None:
 
 def sweep_table(sweep) -> str:
     """The cost against quantity as a short console table (per board; the board id)."""
-    from stackopt.outputs.sweep import SWEEP_PICKS, label, sweep_picks, sweep_sentence
+    from stackopt.outputs.sweep import SWEEP_PICKS, label, named_picks, sweep_sentence
 
     cur = sweep.currency
     rows = []
     for q, r in zip(sweep.quantities, sweep.results, strict=True):
-        p = sweep_picks(r)
+        p = named_picks(r)
         cells = [f"{q:,}"]
         for n in SWEEP_PICKS:
             i = p[n]

@@ -96,13 +96,14 @@ def run_fabs(args: argparse.Namespace) -> int:
 
 def fabs_table(comp) -> str:
     """The comparison as a short console table, then the ranking in words."""
-    from stackopt.outputs.comparison import comparison_summary, fab_picks, ranking_sentences
+    from stackopt.outputs.comparison import comparison_summary, ranking_sentences
+    from stackopt.outputs.sweep import named_picks
 
     rank = {f["folder"]: f["rank"] for f in comparison_summary(comp)["fabs"]}
     rows = []
     for run in comp.runs:
         r, cur = run.result, run.currency
-        p = fab_picks(r)
+        p = named_picks(r)
         ev = r.evaluation
 
         def cell(i, ev=ev, r=r, cur=cur):

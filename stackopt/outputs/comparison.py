@@ -13,28 +13,21 @@ from matplotlib.figure import Figure
 
 from stackopt import __version__
 from stackopt.analyses.fabs import RANK_PICK, FabComparison
-from stackopt.outputs.facts import money, selected_index
+from stackopt.outputs.facts import money
 from stackopt.outputs.plots import figure_bytes, new_figure, pick_color, plain, styled
 from stackopt.outputs.report_render import render_html, render_markdown
+from stackopt.outputs.sweep import label, named_picks
 
-__all__ = ["COMPARISON_FILES", "COMPARED_PICKS", "fab_picks", "comparison_summary",
+__all__ = ["COMPARISON_FILES", "COMPARED_PICKS", "comparison_summary",
            "ranking_sentences", "comparison_document", "plot_comparison",
            "render_comparison"]
 
 #: The files at the top of ``--out``.
 COMPARISON_FILES = ("comparison.json", "comparison.md", "comparison.html", "comparison.png")
-#: The picks compared per fab, with their labels.
-COMPARED_PICKS = {"cheapest_meeting_requirements": "Cheapest meeting the requirements",
-                  "cheapest_two_layer": "Cheapest two-layer",
-                  "recommended": "Recommended"}
+#: The picks compared per fab (labels: :func:`stackopt.outputs.sweep.label`).
+COMPARED_PICKS = ("cheapest_meeting_requirements", "cheapest_two_layer", "recommended")
 _FIELDS = ("id", "layers", "unit_cost", "lot_cost", "lead_time_days", "margin_dB",
            "meets_requirements")
-
-
-def fab_picks(result) -> dict[str, int | None]:
-    """Index of each compared pick of one fab's search."""
-    return {n: (selected_index(result) if n == "recommended" else result.picks.get(n))
-            for n in COMPARED_PICKS}
 
 
 def _rates_text(comp: FabComparison, source: bool = True) -> str:
@@ -59,7 +52,7 @@ def comparison_summary(comp: FabComparison) -> dict:
         r = run.result
         entry: dict = {"name": run.name, "folder": run.folder, "cost_table": run.source,
                        "currency": run.currency}
-        for name, i in fab_picks(r).items():
+        for name, i in ((n, named_picks(r)[n]) for n in COMPARED_PICKS):
             entry[name] = None if i is None else {f: r.record(i)[f] for f in _FIELDS}
         rk = rank_of.get(k)
         entry["rank"] = None if rk is None else rk[0]
@@ -153,7 +146,7 @@ def comparison_document(comp: FabComparison) -> list[tuple]:
     rows = []
     for run in comp.runs:
         r, cur = run.result, run.currency
-        p = fab_picks(r)
+        p = named_picks(r)
         i = p[RANK_PICK]
         ev = r.evaluation
         meet = (["none"] * 6 if i is None else
@@ -191,7 +184,7 @@ def plot_comparison(comp: FabComparison) -> Figure:
     ranking = comp.ranking()
     fig = new_figure(8.0, 1.6 + 1.1 * len(comp.runs) + 0.6 * len(ranking))
     axes = fig.subplots(len(ranking), 1, squeeze=False)[:, 0]
-    names = list(COMPARED_PICKS)
+    names = COMPARED_PICKS
     for ax, (cur, _members, order, none) in zip(axes, ranking, strict=True):
         group = [*order, *none]
         h = 0.8 / len(names)
@@ -199,7 +192,7 @@ def plot_comparison(comp: FabComparison) -> Figure:
             ys, xs, texts = [], [], []
             for row, k in enumerate(group):
                 r = comp.runs[k].result
-                i = fab_picks(r)[n]
+                i = named_picks(r)[n]
                 if i is None:
                     continue
                 u = float(r.evaluation.unit_cost[i])
@@ -210,7 +203,7 @@ def plot_comparison(comp: FabComparison) -> Figure:
                 texts.append(f" {r.ids[i]}: {money(u, own)}"
                              + (f" ({money(x, cur)})" if own != cur else ""))
             ax.barh(ys, xs, height=h * 0.9, color=pick_color(j),
-                    label=COMPARED_PICKS[n] if ax is axes[0] else None)
+                    label=label(n) if ax is axes[0] else None)
             for y, x, t in zip(ys, xs, texts, strict=True):
                 ax.text(x, y, plain(t), va="center", fontsize=7)
         ax.set_yticks(np.arange(len(group)))

@@ -16,7 +16,7 @@ from stackopt.outputs.facts import money, selected_index
 from stackopt.outputs.plots import new_figure, pick_color, plain, styled
 from stackopt.search.picks import PICKS
 
-__all__ = ["SWEEP_PICKS", "sweep_picks", "sweep_summary", "sweep_sentence",
+__all__ = ["SWEEP_PICKS", "label", "named_picks", "sweep_summary", "sweep_sentence",
            "sweep_section", "plot_quantities"]
 
 #: The picks the sweep's table, sentence and console show (every pick is in the JSON).
@@ -32,8 +32,9 @@ def label(name: str) -> str:
         PICKS[name].report if name in PICKS else name)
 
 
-def sweep_picks(result) -> dict[str, int | None]:
-    """Index of every pick of one lot's search, plus ``recommended``."""
+def named_picks(result) -> dict[str, int | None]:
+    """Index of every pick of a search, plus ``recommended`` (the sweep's rows and the
+    fab comparison both show these)."""
     out = dict(result.picks)
     out["recommended"] = selected_index(result)
     return out
@@ -45,7 +46,7 @@ def sweep_summary(sweep: QuantitySweep) -> list[dict]:
     rows = []
     for q, r in zip(sweep.quantities, sweep.results, strict=True):
         row: dict = {"quantity": q}
-        for name, i in sweep_picks(r).items():
+        for name, i in named_picks(r).items():
             row[name] = None if i is None else {k: r.record(i)[k] for k in _FIELDS}
         rows.append(row)
     return rows
@@ -56,7 +57,7 @@ def _pairs(sweep: QuantitySweep) -> list[tuple[int, float, float, int]]:
     cheapest two-layer board, layers of the recommended one)."""
     out = []
     for q, r in zip(sweep.quantities, sweep.results, strict=True):
-        p = sweep_picks(r)
+        p = named_picks(r)
         a, t = p["recommended"], p["cheapest_two_layer"]
         if a is not None and t is not None:
             u = r.evaluation.unit_cost
@@ -74,7 +75,7 @@ def _changes(sweep: QuantitySweep, name: str) -> str:
     the board a pick names changes between lots, else ``""``."""
     parts, last = [], None
     for k, (q, r) in enumerate(zip(sweep.quantities, sweep.results, strict=True)):
-        i = sweep_picks(r)[name]
+        i = named_picks(r)[name]
         board = _board(r, i)
         if k == 0 or board != last:
             ident = "none" if i is None else r.ids[i]
@@ -92,7 +93,7 @@ def sweep_sentence(sweep: QuantitySweep) -> str:
     cur = sweep.currency
     qs = sweep.quantities
     pairs = _pairs(sweep)
-    recs = [sweep_picks(r)["recommended"] for r in sweep.results]
+    recs = [named_picks(r)["recommended"] for r in sweep.results]
     if all(i is None for i in recs):
         return "No board was evaluated at these quantities."
     if not pairs:
@@ -130,7 +131,7 @@ def sweep_section(sweep: QuantitySweep) -> list[tuple]:
     head = ["Boards", *(label(n) for n in SWEEP_PICKS), "Extra per board", "Extra per lot"]
     rows = []
     for q, r in zip(sweep.quantities, sweep.results, strict=True):
-        p = sweep_picks(r)
+        p = named_picks(r)
         u = r.evaluation.unit_cost
         cells = [f"{q:,}"]
         for n in SWEEP_PICKS:
@@ -166,7 +167,7 @@ def plot_quantities(sweep: QuantitySweep) -> Figure:
     # one line per distinct sequence of boards (pick names sharing it share the line)
     lines: dict[tuple, list[str]] = {}
     for name in SWEEP_PICKS:
-        seq = tuple(sweep_picks(r)[name] for r in sweep.results)
+        seq = tuple(named_picks(r)[name] for r in sweep.results)
         lines.setdefault(seq, []).append(name)
     drawn: list[float] = []
     for k, (seq, names) in enumerate(lines.items()):
