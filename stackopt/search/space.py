@@ -155,7 +155,8 @@ class Geometry:
     """A batch of N candidates as the physics and the pricing see them (SI units).
 
     Every height comes from :attr:`stack` (:mod:`stackopt.model.geometry`, the one owner of
-    stackup geometry); the properties below only name the ones the search uses.
+    stackup geometry); the properties below only name the ones the search uses (computed
+    once per batch: a record of one candidate reads them again and again).
     """
 
     stack: LayerStack  # per-layer arrays of the N stackups
@@ -177,7 +178,7 @@ class Geometry:
         """Top copper thickness, m (N,)."""
         return self.stack.copper[:, 0]
 
-    @property
+    @cached_property
     def inner_copper(self) -> np.ndarray:
         """Thickest inner copper (the top copper where there is no inner layer), m (N,)."""
         inner = self.stack.copper[:, 1:-1]
@@ -190,7 +191,7 @@ class Geometry:
         """Finished thickness, m (N,)."""
         return self.stack.thickness
 
-    @property
+    @cached_property
     def via_height(self) -> np.ndarray:
         """Ground-via height from the top copper to its ground plane, m (N,)."""
         return self.stack.via_height(0)
