@@ -17,7 +17,8 @@ from stackopt.search.phenotype import LineBatch, batch_key, quantize, unique_row
 def test_every_field_of_each_batch_is_in_the_key():
     gb = GroundBatch.broadcast(height=[0.2e-3, 0.2e-3], drill=0.3e-3, vias=1, copper=35e-6)
     lb = LineBatch(*(np.array([0.2e-3, 0.2e-3]), np.array([4.2, 4.2]),
-                     np.array([35e-6, 35e-6]), np.array([False, False])))
+                     np.array([35e-6, 35e-6]), np.array([False, False]),
+                     np.array([0.3e-3, 0.3e-3]), np.array([3.9, 3.9]), np.array([2, 2])))
     for batch in (gb, lb):
         base = batch_key(batch)
         assert (base[0] == base[1]).all()

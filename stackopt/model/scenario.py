@@ -24,11 +24,13 @@ from stackopt.model.fields import (
 )
 from stackopt.model.mitigations import MITIGATIONS, mitigation_error
 from stackopt.physics.inductance import DEFAULT_VIA_MODEL, VIA_MODELS
+from stackopt.physics.linetypes import PAIR_TYPES, STRIPLINE_TYPES, LineType
 
 __all__ = [
     "Board",
     "Requirement",
     "ControlledLine",
+    "SolderMask",
     "ThicknessWindow",
     "SpaceSpec",
     "SearchSpec",
@@ -133,17 +135,79 @@ class Requirement(BaseModel):
 
 
 class ControlledLine(BaseModel):
-    """A controlled-impedance line on the top layer that every candidate must be able to
-    carry with a manufacturable width."""
+    """A controlled-impedance line that every candidate must carry with a manufacturable
+    width: single-ended (``impedance``) or an edge-coupled pair (``differential``, the
+    target Zdiff = 2 Zodd, with the pair's edge-to-edge ``spacing``; the width is
+    synthesized for that spacing), on a layer: ``outer`` (the top layer), ``inner`` (the
+    shallowest inner signal layer with a plane on each side) or a layer name ``L1``,
+    ``L3``, ...; default ``outer`` for microstrip, cpwg and diff-microstrip and ``inner``
+    for the stripline types (:data:`stackopt.physics.linetypes.LINE_TYPES`)."""
 
     model_config = FROZEN
-    name: str
-    #: The kinds the search sizes on the top layer (a subset of the line registry,
-    #: :data:`stackopt.physics.linetypes.LINE_TYPES`).
-    type: Literal["microstrip", "cpwg"] = "microstrip"
-    impedance: Impedance
+    name: str = Field(min_length=1, max_length=100)
+    type: LineType = "microstrip"
+    layer: str | None = Field(None, description="'outer', 'inner' or L1, L2, ...")
+    impedance: Impedance | None = None
+    differential: Impedance | None = Field(None, description="target Zdiff of a pair")
+    spacing: PositiveLength | None = Field(None, description="edge-to-edge gap of a pair")
     max_width: PositiveLength | None = None
+    min_width: PositiveLength | None = None
     gap: PositiveLength | None = Field(None, description="CPWG gap to the coplanar ground")
+
+    @model_validator(mode="after")
+    def _check(self) -> ControlledLine:
+        pair, strip = self.type in PAIR_TYPES, self.type in STRIPLINE_TYPES
+        if pair and self.differential is None:
+            raise ValueError(f"a {self.type} pair needs 'differential' (its target Zdiff, "
+                             "e.g. 90 ohm) and 'spacing'")
+        if pair and self.impedance is not None:
+            raise ValueError(f"a {self.type} pair is sized for 'differential' (Zdiff = "
+                             "2 Zodd); drop 'impedance' or use a single-ended type")
+        if pair and self.spacing is None:
+            raise ValueError(f"a {self.type} pair needs 'spacing' (edge to edge, e.g. "
+                             "0.2 mm): the width is synthesized for that spacing")
+        if not pair and self.impedance is None:
+            raise ValueError(f"a {self.type} line needs 'impedance' (e.g. 50 ohm)")
+        if not pair and (self.differential is not None or self.spacing is not None):
+            raise ValueError("'differential' and 'spacing' are for the diff-microstrip and "
+                             "diff-stripline types")
+        rule = self.layer_rule
+        if strip and rule in ("outer", 0):
+            raise ValueError(f"a {self.type} runs between two planes, never on the top "
+                             "layer; use layer 'inner' or an inner layer name such as L3")
+        if not strip and rule == "inner":
+            raise ValueError(f"a {self.type} runs on an outer layer; use layer 'outer' (or "
+                             "type stripline / diff-stripline for an inner layer)")
+        if self.min_width is not None and self.max_width is not None and (
+                self.min_width > self.max_width):
+            raise ValueError("min_width is above max_width; swap them")
+        return self
+
+    @property
+    def target(self) -> float:
+        """The target impedance the width is sized for, ohm (Zdiff for a pair)."""
+        return float(self.differential if self.type in PAIR_TYPES else self.impedance)  # type: ignore[arg-type]
+
+    @property
+    def layer_rule(self) -> str | int:
+        """``"outer"``, ``"inner"`` or a 0-based copper layer index."""
+        if self.layer is None:
+            return "inner" if self.type in STRIPLINE_TYPES else "outer"
+        text = self.layer.strip().lower()
+        if text in ("outer", "inner"):
+            return text
+        if text[:1] == "l" and text[1:].isdigit() and int(text[1:]) >= 1:
+            return int(text[1:]) - 1
+        raise ValueError(f"layer {self.layer!r} is not 'outer', 'inner' or a layer name "
+                         "such as L1 or L3")
+
+
+class SolderMask(BaseModel):
+    """Solder mask over the outer layers (field solver only: the closed forms ignore it)."""
+
+    model_config = FROZEN
+    thickness: PositiveLength = 20e-6
+    er: float = Field(3.5, ge=1.0, le=20.0, description="relative permittivity")
 
 
 class ThicknessWindow(BaseModel):
@@ -325,6 +389,8 @@ class Scenario(BaseModel):
     circuit: Circuit
     requirements: tuple[Requirement, ...] = ()
     lines: tuple[ControlledLine, ...] = ()
+    solder_mask: SolderMask | None = Field(None, description="over the outer layers; used "
+                                           "by the field-solver check of the lines")
     space: SpaceSpec = SpaceSpec()
     search: SearchSpec = SearchSpec()
 
@@ -337,6 +403,23 @@ class Scenario(BaseModel):
             if len(set(names)) != len(names):
                 raise ValueError("two requirements have the same frequency or name; "
                                  "merge them or name them apart")
+        names = [ln.name for ln in self.lines]
+        if len(set(names)) != len(names):
+            raise ValueError("two lines have the same name; name them apart")
+        most = max(self.space.layers)
+        for ln in self.lines:
+            rule = ln.layer_rule
+            if isinstance(rule, int) and rule >= most:
+                raise ValueError(
+                    f"line {ln.name!r}: layer {ln.layer} does not exist on any board the "
+                    f"space offers (at most {most} layers); pick a layer up to L{most} or "
+                    "add a larger count to space.layers")
+            if ln.type in STRIPLINE_TYPES and most < 4:
+                raise ValueError(
+                    f"line {ln.name!r}: a {ln.type} needs an inner layer between two planes "
+                    f"and the space offers only {most}-layer boards; add 4 or more to "
+                    "space.layers or use an outer-layer type (microstrip, cpwg, "
+                    "diff-microstrip)")
         return self
 
     @property

@@ -57,14 +57,20 @@ def unique_rows(key: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 @dataclass(frozen=True)
 class LineBatch:
-    """What the width synthesis of a controlled-impedance line on the top layer receives,
-    arrays of N: dielectric height to the reference plane (m), its Dk, copper thickness
-    (m), and whether the line is a grounded coplanar waveguide (a ground pour beside it)."""
+    """What the width synthesis of one controlled-impedance line receives, arrays of N:
+    the cross-section on the line's layer (:class:`stackopt.model.routing.LineSection`:
+    dielectric height to the reference plane (m) and its Dk, copper thickness (m), for
+    stripline the height to the second plane and its Dk; 0 where there is no layer),
+    whether the line is a grounded coplanar waveguide (a ground pour beside it), and its
+    copper layer (-1: no layer on that stackup carries it)."""
 
     height: np.ndarray
     er: np.ndarray
     copper: np.ndarray
     coplanar: np.ndarray
+    height_above: np.ndarray
+    er_above: np.ndarray
+    layer: np.ndarray
 
     def take(self, idx: np.ndarray) -> LineBatch:
         """The candidates at ``idx``."""

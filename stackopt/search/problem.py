@@ -11,7 +11,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import Any
 
 import numpy as np
 
@@ -20,8 +19,9 @@ from stackopt.circuit.grounds import DEFAULT_POUR_GAP
 from stackopt.circuit.metrics import attenuation_db
 from stackopt.cost import PriceBatch, price
 from stackopt.model.costtable import BoardOrder, CostTable
+from stackopt.model.routing import line_layer, line_section
 from stackopt.model.scenario import Scenario
-from stackopt.physics.synthesis import LineKind, synthesize_width
+from stackopt.physics.linetypes import STRIPLINE_TYPES, LineSpec, line_width
 from stackopt.search.memo import ResponseMemo
 from stackopt.search.phenotype import LineBatch, batch_key, unique_rows
 from stackopt.search.space import Candidates, DielectricOptions, Geometry, Space
@@ -192,11 +192,32 @@ class Problem:
                            via_scale=np.full(n, search.via_scale(model or search.via_model)))
 
     def line_batch(self, g: Geometry, line: int) -> LineBatch:
-        """What the width synthesis of scenario line ``line`` receives for a batch."""
+        """What the width synthesis of scenario line ``line`` receives for a batch: the
+        cross-section on its layer (:mod:`stackopt.model.routing`). The coplanar ground
+        pour (mitigation) turns a single-ended top-layer microstrip into a cpwg."""
         ln = self.scenario.lines[line]
+        layer = line_layer(g.stack, ln.type, ln.layer_rule)
+        sec = line_section(g.stack, layer, ln.type)
         cop = g.flags.get("coplanar", np.zeros(len(g), dtype=bool))
-        return LineBatch(height=g.trace_height, er=g.trace_er, copper=g.copper,
-                         coplanar=cop | (ln.type == "cpwg"))
+        cop = (cop & (layer == 0) & (ln.type == "microstrip")) | (ln.type == "cpwg")
+        return LineBatch(*(np.nan_to_num(a) for a in (sec.h, sec.er, sec.t)),
+                         coplanar=cop & (layer >= 0), height_above=np.nan_to_num(sec.h_above),
+                         er_above=np.nan_to_num(sec.er_above), layer=layer)
+
+    def line_spec(self, line: int, lb: LineBatch) -> LineSpec:
+        """The :class:`~stackopt.physics.linetypes.LineSpec` of scenario line ``line`` on
+        the cross-sections of ``lb`` (arrays; a coplanar pour makes it a cpwg)."""
+        ln = self.scenario.lines[line]
+        strip = ln.type in STRIPLINE_TYPES
+        kind = "cpwg" if bool(np.all(lb.coplanar)) and not ln.type.startswith("diff") \
+            else ln.type
+        gap = (ln.gap if ln.gap is not None else self.pour_gap) if kind == "cpwg" else None
+        mask = self.scenario.solder_mask
+        return LineSpec(kind, lb.height, lb.er, lb.copper,
+                        h_above=lb.height_above if strip else None,
+                        er_above=lb.er_above if strip else None, s=ln.spacing, gap=gap,
+                        mask_t=mask.thickness if (mask and not strip) else 0.0,
+                        mask_er=mask.er if mask else 3.5)
 
     def phenotype(self, g: Geometry) -> np.ndarray:
         """The electrical phenotype key, one int row per candidate: every field of the
@@ -258,36 +279,49 @@ class Problem:
         return np.column_stack(cols)
 
     def line_widths(self, g: Geometry) -> np.ndarray:
-        """Width of every controlled-impedance line on each candidate (NaN: unreachable),
-        synthesized once per distinct :class:`~stackopt.search.phenotype.LineBatch` row."""
+        """Width of every controlled-impedance line on each candidate (NaN: unreachable or
+        no layer for it), synthesized by closed form once per distinct
+        :class:`~stackopt.search.phenotype.LineBatch` row (the field solver refines the
+        picks' widths afterwards: :mod:`stackopt.analyses.lines`)."""
         lines = self.scenario.lines
         out = np.full((len(g), len(lines)), np.nan)
-        for j, ln in enumerate(lines):  # a handful of lines
-            gap = ln.gap if ln.gap is not None else self.pour_gap
+        for j, _ in enumerate(lines):  # a handful of lines
             lb = self.line_batch(g, j)
             first, inv = unique_rows(batch_key(lb))
             u = lb.take(first)
             w = np.full(len(first), np.nan)
-            kinds: tuple[tuple[LineKind, np.ndarray, dict[str, Any]], ...] = (
-                ("microstrip", ~u.coplanar, {}), ("cpwg", u.coplanar, {"gap": gap}))
-            for kind, sel, extra in kinds:
+            for cpw in (False, True):  # the pour changes the kind: one call per kind
+                sel = (u.coplanar == cpw) & (u.layer >= 0)
                 if sel.any():
-                    wk, ok = synthesize_width(ln.impedance, u.height[sel], u.er[sel],
-                                              u.copper[sel], kind=kind, w_min=WIDTH_RANGE[0],
-                                              w_max=WIDTH_RANGE[1], **extra)
+                    wk, ok = line_width(self.line_spec(j, u.take(np.flatnonzero(sel))),
+                                        lines[j].target, *WIDTH_RANGE)
                     w[sel] = np.where(ok, wk, np.nan)
             out[:, j] = w[inv]
         return out
 
     # ---- everything ------------------------------------------------------------------
-    def price_batch(self, g: Geometry, min_trace: np.ndarray) -> PriceBatch:
+    def line_layers(self, g: Geometry) -> np.ndarray:
+        """Copper layer (0-based) of every line on each candidate, (N, lines); -1: none."""
+        cols = [line_layer(g.stack, ln.type, ln.layer_rule) for ln in self.scenario.lines]
+        return np.column_stack(cols) if cols else np.zeros((len(g), 0), dtype=np.int64)
+
+    def min_space(self, layers: np.ndarray) -> np.ndarray:
+        """Narrowest copper-to-copper space the lines need on each candidate, m (N,): the
+        spacing of every pair that has a layer there; NaN where none."""
+        sp = np.array([ln.spacing if ln.spacing is not None else np.inf
+                       for ln in self.scenario.lines])
+        m = np.where(layers >= 0, sp[None, :], np.inf).min(axis=1, initial=np.inf)
+        return np.where(np.isfinite(m), m, np.nan)
+
+    def price_batch(self, g: Geometry, min_trace: np.ndarray,
+                    min_space: np.ndarray | float = np.nan) -> PriceBatch:
         """What the fab prices for a batch."""
         n = len(g)
         off = np.zeros(n, dtype=bool)
         return PriceBatch.broadcast(
             layers=g.layers, material_counts=g.material_counts, copper=g.copper,
             inner_copper=g.inner_copper, min_drill=g.drill, thickness=g.thickness,
-            min_dielectric=g.min_dielectric, min_trace=min_trace,
+            min_dielectric=g.min_dielectric, min_trace=min_trace, min_space=min_space,
             via_in_pad=g.flags.get("via_in_pad", off),
             impedance_control=np.full(n, bool(self.scenario.lines)))
 
@@ -301,7 +335,9 @@ class Problem:
         att_f = attenuation_db(s)
         att, margin = self.attenuation(att_f)
         widths = self.line_widths(g)
-        pr = price(self.table, self.order, self.price_batch(g, min_trace(widths)))
+        layers = self.line_layers(g)
+        pr = price(self.table, self.order, self.price_batch(g, min_trace(widths),
+                                                            self.min_space(layers)))
         viol = dict(pr.violations)
         win = self.scenario.space.thickness
         if win is not None:
@@ -309,10 +345,15 @@ class Problem:
             viol["thickness_window"] = np.maximum(lo - g.thickness, 0) / lo + np.maximum(
                 g.thickness - hi, 0) / hi
         for j, ln in enumerate(self.scenario.lines):
-            viol[f"line_{ln.name}_unreachable"] = np.isnan(widths[:, j]).astype(float)
+            has = layers[:, j] >= 0
+            w = np.nan_to_num(widths[:, j], nan=0.0)
+            viol[f"line_{ln.name}_no_layer"] = (~has).astype(float)
+            viol[f"line_{ln.name}_unreachable"] = (has & np.isnan(widths[:, j])).astype(float)
             if ln.max_width is not None:
-                viol[f"line_{ln.name}_too_wide"] = np.maximum(
-                    np.nan_to_num(widths[:, j], nan=0.0) - ln.max_width, 0) / ln.max_width
+                viol[f"line_{ln.name}_too_wide"] = np.maximum(w - ln.max_width, 0) / ln.max_width
+            if ln.min_width is not None:
+                viol[f"line_{ln.name}_too_narrow"] = np.where(
+                    w > 0, np.maximum(ln.min_width - w, 0) / ln.min_width, 0.0)
         viol["circuit_nonfinite"] = (~np.isfinite(margin)).astype(float)
         margin = np.nan_to_num(margin, nan=-999.0, posinf=999.0, neginf=-999.0)
         return Evaluation(unit_cost=pr.unit_cost, lot_cost=pr.lot_cost,

@@ -13,7 +13,7 @@ opening is 1..``max_plies`` plies of one glass style.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from functools import cached_property
 
 import numpy as np
@@ -51,6 +51,9 @@ class Arrangement:
     name: str
     roles: tuple[str, ...]
     symmetric: bool
+    #: Dielectric slots that set a controlled-impedance line's cross-section (the
+    #: scenario's lines on this arrangement, :func:`stackopt.model.routing.line_slots`).
+    line_slots: frozenset[int] = frozenset()
 
     @property
     def n_layers(self) -> int:
@@ -66,10 +69,7 @@ class Arrangement:
     def ground(self) -> int:
         """0-based copper index of the ground plane that the top layer's vias reach
         (:meth:`stackopt.model.geometry.LayerStack.ground_plane`)."""
-        roles = role_codes(self.roles)[None, :]
-        stack = LayerStack(np.zeros((1, self.n_layers - 1)), np.ones((1, self.n_layers - 1)),
-                           np.ones((1, self.n_layers)), roles)
-        return int(stack.ground_plane(0)[0, 0])
+        return int(self.stack().ground_plane(0)[0, 0])
 
     @property
     def genes(self) -> tuple[tuple[int, ...], ...]:
@@ -84,8 +84,27 @@ class Arrangement:
 
     @property
     def head(self) -> tuple[int, ...]:
-        """Genes that set the depth from the top copper to the ground plane."""
-        return tuple(k for k, slots in enumerate(self.genes) if min(slots) < self.ground)
+        """Genes that set the electrical response: the depth from the top copper to the
+        ground plane, and every line's cross-section (:attr:`line_slots`)."""
+        return tuple(k for k, slots in enumerate(self.genes)
+                     if min(slots) < self.ground or self.line_slots.intersection(slots))
+
+    def stack(self) -> LayerStack:
+        """A one-stackup :class:`LayerStack` of this arrangement's roles (unit heights):
+        for questions of topology (which plane, which layer)."""
+        roles = role_codes(self.roles)[None, :]
+        return LayerStack(np.ones((1, self.n_layers - 1)), np.ones((1, self.n_layers - 1)),
+                          np.ones((1, self.n_layers)), roles)
+
+    def with_lines(self, lines) -> Arrangement:
+        """This arrangement with the slots that set the scenario ``lines`` marked."""
+        from stackopt.model.routing import line_layer, line_slots
+
+        st = self.stack()
+        slots: set[int] = set()
+        for ln in lines:  # a handful of lines
+            slots |= line_slots(st, int(line_layer(st, ln.type, ln.layer_rule)[0]))
+        return replace(self, line_slots=frozenset(slots))
 
 
 def _roles(code: str) -> tuple[str, ...]:
@@ -238,7 +257,8 @@ class Space:
         sp = scenario.space
         counts = sorted({n for n in sp.layers if n <= max_layers})
         drills = tuple(d for d in sp.drills if d >= min_drill * (1 - 1e-9))
-        arrs = tuple(a for n in counts for a in arrangements(n, sp.symmetric)
+        arrs = tuple(a.with_lines(scenario.lines) for n in counts
+                     for a in arrangements(n, sp.symmetric)
                      if all(len(catalogue.get(k, ())) for k in a.slot_kinds))
         mits = tuple(m for m in MITIGATIONS if m in sp.mitigations)
         builds = _resolve(constructions or (), catalogue, material_names, counts)
