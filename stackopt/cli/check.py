@@ -61,7 +61,11 @@ def run(args: argparse.Namespace) -> int:
         say(table(rows, ["requirement", "at", "attenuation"]))
     for ln in sc.lines:
         mw = f", at most {fq(ln.max_width, 'length')} wide" if ln.max_width else ""
-        say(f"line  {ln.name}: {ln.type} {fq(ln.impedance, 'impedance')}{mw}")
+        what = (f"{fq(ln.target, 'impedance')} differential, spacing "
+                f"{fq(ln.spacing, 'length')}" if ln.spacing is not None
+                else fq(ln.target, "impedance"))
+        where = ln.layer_rule if isinstance(ln.layer_rule, str) else f"L{ln.layer_rule + 1}"
+        say(f"line  {ln.name}: {ln.type} on the {where} layer, {what}{mw}")
     w = sc.space.thickness
     say("space  layers " + ", ".join(str(a.n_layers) + " " + a.name for a in sp.arrangements))
     if sp.constructions:

@@ -132,13 +132,20 @@ def selected_document(result, i: int | None = None) -> dict:
                            "plies": int(r["plies"]), "thickness": _q(t, "mm", 1e-3),
                            "dk": round(float(r["er"]), 4), "df": round(float(r["df"]), 5)})
     lines = []
-    for ln in result.problem.scenario.lines:
-        w = rec["line_widths_m"].get(ln.name)
-        lines.append({"name": ln.name, "type": "cpwg" if ln.type == "cpwg"
-                      or "coplanar" in rec["mitigations"] else "microstrip",
-                      "layer": "L1", "impedance": f"{ln.impedance:g} ohm",
-                      "width": None if w is None else _q(w, "mm", 1e-3, 4),
-                      **({"gap": _q(ln.gap, "mm", 1e-3, 4)} if ln.gap else {})})
+    for r in result.lines(i):
+        w = r.width_field_m if r.width_field_m is not None else r.width_m
+        entry = {"name": r.name, "type": r.type, "layer": r.layer,
+                 ("differential" if r.differential else "impedance"):
+                 f"{r.target_ohm:g} ohm",
+                 "width": None if w is None else _q(w, "mm", 1e-3, 4)}
+        if r.spacing_m is not None:
+            entry["spacing"] = _q(r.spacing_m, "mm", 1e-3, 4)
+        if r.gap_m is not None:
+            entry["gap"] = _q(r.gap_m, "mm", 1e-3, 4)
+        entry["width_closed_form"] = None if r.width_m is None else _q(r.width_m, "mm",
+                                                                       1e-3, 4)
+        entry["solver"] = "field" if r.width_field_m is not None else "closed-form"
+        lines.append(entry)
     return {
         "format": FORMAT,
         "note": "ESTIMATE from stackopt's closed-form models: confirm the stackup, pressed "

@@ -6,11 +6,10 @@ from __future__ import annotations
 
 import math
 
-import numpy as np
-
 from stackopt.model.mitigations import MITIGATIONS
 from stackopt.outputs.facts import comparison, db, mm, selected_index, unique_picks
 from stackopt.outputs.report_calibration import calibration_note
+from stackopt.outputs.report_lines import WIDE_TRACE, impedance_table, layer_lines, line_risks
 from stackopt.search.picks import PICKS
 
 __all__ = ["risks", "stackup_table", "spread_table", "assumptions", "cautions",
@@ -19,9 +18,6 @@ __all__ = ["risks", "stackup_table", "spread_table", "assumptions", "cautions",
 #: One ounce of copper foil per square foot, as finished thickness, m (34.3 um; the
 #: figure the cost tables use; common practice, no source).
 OZ = 34.3e-6
-#: A trace wider than this will not fan into the pads of a fine-pitch part (0.5-0.8 mm
-#: pitch parts have pads of about 0.25-0.45 mm) without a taper; common practice, no source.
-WIDE_TRACE = 0.6e-3
 #: Dielectrics thinner than this get the safety-insulation caution spelled out (0.4 mm is
 #: a distance-through-insulation figure often met in safety standards; from memory).
 THIN_DIELECTRIC = 0.4e-3
@@ -49,18 +45,6 @@ def _copper_weight(t: float) -> str:
     return f"{oz:.2g} oz ({t * 1e6:.0f} um)"
 
 
-def _line_text(result, i: int) -> list[str]:
-    out = []
-    for j, ln in enumerate(result.problem.scenario.lines):
-        w = float(result.evaluation.widths[i, j])
-        kind = "coplanar (CPWG)" if (ln.type == "cpwg" or bool(
-            result.evaluation.geometry.flags.get("coplanar", np.zeros(result.n, bool))[i])
-        ) else "microstrip"
-        out.append(f"{ln.name}: {ln.impedance:g} ohm {kind}, "
-                   + (mm(w) if math.isfinite(w) else "not reachable"))
-    return out
-
-
 def risks(result) -> list[str]:
     """Risks of the choice, in words (line widths, safety insulation, model spread,
     margin, lead time, layout rules the two-layer figure depends on)."""
@@ -75,19 +59,7 @@ def risks(result) -> list[str]:
     for i, what in cases:
         if i is None:
             continue
-        for j, ln in enumerate(sc.lines):
-            w = float(ev.widths[i, j])
-            h = mm(g.trace_height[i])
-            if not math.isfinite(w):
-                out.append(f"On the {what} board ({result.ids[i]}) the {ln.impedance:g} ohm "
-                           f"line '{ln.name}' cannot reach its impedance within the width "
-                           "range searched.")
-            elif w > WIDE_TRACE:
-                out.append(f"On the {what} board ({result.ids[i]}, {h} to the nearest "
-                           f"plane) the {ln.impedance:g} ohm line '{ln.name}' is {mm(w)} "
-                           "wide: it will not fan into a fine-pitch part (pads of about "
-                           "0.25-0.45 mm) without a taper, which is an impedance step right "
-                           "at the part.")
+        out += line_risks(result, i, what)
         if i == c.two:
             mit = [MITIGATIONS[m].label for m in result.problem.space.mitigations
                    if g.flags[m][i]]
@@ -125,13 +97,15 @@ def stackup_table(result) -> list[tuple]:
         return [("h2", "Recommended stackup"), ("p", "No candidate to recommend.")]
     ev, tab = result.evaluation, result.problem.table
     st = result.stackup(sel)
-    lines = _line_text(result, sel)
+    lines = layer_lines(result.lines(sel))
     rows = []
-    for k, rec in enumerate(st.to_records()):
+    cu = 0
+    for rec in st.to_records():
         t = rec["thickness_m"]
         if rec["kind"] == "copper":
+            cu += 1
             rows.append([rec["name"], "copper", rec["role"], f"{t * 1e6:.0f} um", "", "",
-                         _copper_weight(t), "; ".join(lines) if k == 0 else ""])
+                         _copper_weight(t), "; ".join(lines.get(f"L{cu}", []))])
         else:
             rows.append(["", rec["material"], f"{rec['kind']} ({rec['plies']} ply)"
                          if rec["kind"] == "prepreg" else rec["kind"], mm(t),
@@ -142,13 +116,14 @@ def stackup_table(result) -> list[tuple]:
     return [
         ("h2", f"Recommended stackup: {result.ids[sel]} ({meets})"),
         ("table", ["Layer", "Material", "Kind / role", "Thickness", "Dk", "Df", "Copper",
-                   "Controlled impedance (top layer)"], rows),
+                   "Controlled impedance"], rows),
         ("p", f"Finished thickness {mm(st.thickness)} ± "
               f"{tab.capabilities.thickness_tolerance * 100:.0f} % (over copper, before "
               f"mask and plating); drill {mm(ev.geometry.drill[sel])}; "
               f"{int(ev.geometry.vias[sel])} via(s) per ground connection; mitigations: "
-              f"{', '.join(mit) or 'none'}. Widths are closed-form estimates: ask the fab "
-              "to adjust them to its materials."),
+              f"{', '.join(mit) or 'none'}. Widths by field solve (table below): ask the "
+              "fab to adjust them to its materials."),
+        *impedance_table(result, sel),
     ]
 
 

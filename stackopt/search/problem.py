@@ -200,8 +200,9 @@ class Problem:
         sec = line_section(g.stack, layer, ln.type)
         cop = g.flags.get("coplanar", np.zeros(len(g), dtype=bool))
         cop = (cop & (layer == 0) & (ln.type == "microstrip")) | (ln.type == "cpwg")
-        return LineBatch(*(np.nan_to_num(a) for a in (sec.h, sec.er, sec.t)),
-                         coplanar=cop & (layer >= 0), height_above=np.nan_to_num(sec.h_above),
+        return LineBatch(height=np.nan_to_num(sec.h), er=np.nan_to_num(sec.er),
+                         copper=np.nan_to_num(sec.t), coplanar=cop & (layer >= 0),
+                         height_above=np.nan_to_num(sec.h_above),
                          er_above=np.nan_to_num(sec.er_above), layer=layer)
 
     def line_spec(self, line: int, lb: LineBatch) -> LineSpec:

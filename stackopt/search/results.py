@@ -207,7 +207,22 @@ class Result:
         return candidate_stackup(self.problem.space, self.candidates, i)
 
     # ---- records -----------------------------------------------------------------------
-    def record(self, i: int) -> dict:
+    @cached_property
+    def _line_solves(self) -> dict:
+        """Field solves of line cross-sections, shared between candidates."""
+        return {}
+
+    def lines(self, i: int, check: bool = True) -> list:
+        """The impedance table of candidate ``i``: every line's layer, width, spacing and
+        achieved impedance; ``check`` adds the field-solver check and refined width
+        (:func:`stackopt.analyses.lines.line_rows`; solves are cached)."""
+        from stackopt.analyses.lines import line_rows
+
+        g = self.problem.space.geometry(self.candidates.take(np.array([i])))
+        return line_rows(self.problem, g, 0, self.evaluation.widths[i], check,
+                         self._line_solves)
+
+    def record(self, i: int, check_lines: bool = False) -> dict:
         """Candidate ``i`` as a JSON-ready dict (the summary's candidate record)."""
         ev, g, sc = self.evaluation, self.evaluation.geometry, self.problem.scenario
         desc = self.problem.space.describe(self.candidates, i)
@@ -245,6 +260,9 @@ class Result:
             "attenuation_dB": att,
             "ground_inductance_H": _num(ev.inductance[i]),
             "line_widths_m": {ln.name: _num(ev.widths[i, j]) for j, ln in enumerate(sc.lines)},
+            "line_spacings_m": {ln.name: ln.spacing for ln in sc.lines
+                                if ln.spacing is not None},
+            "lines": [r.to_summary() for r in self.lines(i, check_lines)],
             "stackup": layers,
         }
         if self.spread:
@@ -350,7 +368,7 @@ class Result:
                               "min_attenuation_dB": r.min_attenuation}
                              for r in sc.requirements],
             "front": [self.record(int(i)) for i in self.front_order],
-            "picks": {k: (None if v is None else self.record(v))
+            "picks": {k: (None if v is None else self.record(v, check_lines=True))
                       for k, v in self.picks.items()},
             "prepreg_pick": [{k: v for k, v in r.items() if not k.endswith("_index")}
                              for r in self.prepreg_pick()],

@@ -97,7 +97,7 @@ class Arrangement:
                           np.ones((1, self.n_layers)), roles)
 
     def with_lines(self, lines) -> Arrangement:
-        """This arrangement with the slots that set the scenario ``lines`` marked."""
+        """A copy with the slots that set the scenario ``lines`` marked."""
         from stackopt.model.routing import line_layer, line_slots
 
         st = self.stack()
