@@ -16,7 +16,7 @@ from stackopt.model.calibration import (
     FactorRecord,
 )
 
-__all__ = ["with_coupon", "calibration_text", "via_record", "HEADER"]
+__all__ = ["with_coupon", "calibration_text", "via_record", "board_record", "HEADER"]
 
 #: The comment block the file starts with.
 HEADER = """\
@@ -87,3 +87,32 @@ def via_record(name: str, meas, fit, models: dict, *, depth: float, drill: float
         resistance_ohm=fit.resistance,
         capacitance_F=fit.capacitance if fit.capacitance else None,
         used_phase=fit.used_phase)
+
+
+def board_record(name: str, meas, cmp, model: str, *, scenario: str, scenario_sha256: str,
+                 stackup: str, stackup_sha256: str) -> CouponRecord:
+    """The record of a measured board of the user's circuit.
+
+    Parameters
+    ----------
+    name : str
+        Coupon name in the file.
+    meas : Measurement
+        The measurement in the band compared.
+    cmp : BoardComparison
+        :func:`~stackopt.analyses.calibration_board.compare_board`'s result.
+    model : str
+        The via model compared (the scenario's).
+    scenario, scenario_sha256, stackup, stackup_sha256 : str
+        The input files' names and hashes.
+    """
+    ratio = {"ratio": cmp.factor} if cmp.factor is not None else {}
+    return CouponRecord.model_validate(dict(
+        name=name, kind="board", file=meas.path.name, sha256=meas.sha256, z0_ohm=meas.z0,
+        band_Hz=(float(meas.f[0]), float(meas.f[-1])), points=len(meas.f),
+        rms_error_dB=(cmp.scaled_rms_error_db if cmp.scaled_rms_error_db is not None
+                      else cmp.rms_error_db),
+        models={model: ratio}, best_model=model if ratio else None, scenario=scenario,
+        scenario_sha256=scenario_sha256, stackup=stackup, stackup_sha256=stackup_sha256,
+        model=model, uncalibrated_rms_error_dB=cmp.rms_error_db,
+        ideal_rms_error_dB=cmp.ideal_rms_error_db))
