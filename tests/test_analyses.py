@@ -192,3 +192,27 @@ def test_demo_picks_hold_under_every_model():
     for v in s["limits"].values():
         assert v["mechanism"] in ("stackup_self_inductance", "ground_coupling", "circuit",
                                   "none")
+
+
+def test_report_and_plot_carry_the_robustness(two_layer):
+    from stackopt.outputs.plots import figure_bytes
+    from stackopt.outputs.plots_robust import plot_robustness
+    from stackopt.outputs.report import report_document
+    from stackopt.outputs.report_robust import margin_cell
+    from stackopt.outputs.robust_text import MODEL_MARK
+
+    r = two_layer
+    png = figure_bytes(plot_robustness(r), "png")
+    assert png[:8] == b"\x89PNG\r\n\x1a\n"
+    blocks = report_document(r)
+    assert ("img", "robustness") in [b[:2] for b in blocks]
+    assert any(b[0] == "h2" and "uncertainty" in b[1] for b in blocks)
+    # a pick whose margins differ by more than 3 dB between models is marked wherever shown
+    i = next(i for i in r.picks.values() if i is not None)
+    spread = {m: v.copy() for m, v in r.spread.items()}
+    first = next(iter(spread))
+    spread[first][i] = r.evaluation.margin[i] + 5.0
+    marked = replace(r, spread=spread)
+    assert margin_cell(marked, i).endswith(MODEL_MARK)
+    assert r.record(i)["model_dependent"] == (r.record(i)["model_spread_dB"] > 3.0)
+    assert marked.record(i)["model_dependent"]

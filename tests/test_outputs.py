@@ -80,14 +80,14 @@ def test_html_is_standalone(demo_out):
     assert refs and all(r.startswith("data:image/png;base64,") for r in refs)
     assert "http://" not in html and "https://" not in html
     assert "url(" not in html and "@import" not in html and "<script" not in html.lower()
-    assert html.count("<img ") == 6  # with the mitigation ladder's chart
+    assert html.count("<img ") == 7  # with the mitigation ladder's and robustness charts
 
 
 def test_markdown_links_local_images(demo_out):
     md = (demo_out[0] / "report.md").read_text()
     imgs = re.findall(r"!\[[^\]]*\]\(([^)]+)\)", md)
     assert sorted(imgs) == sorted(["pareto.png", "response.png", "stackups.png", "costs.png",
-                                   "prepregs.png", "mitigations.png"])
+                                   "prepregs.png", "mitigations.png", "robustness.png"])
     assert "http" not in md
 
 

@@ -24,6 +24,7 @@ __all__ = ["FILES", "render_all", "write_all"]
 FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.md",
          "pareto.png", "pareto.svg", "response.png", "stackups.png", "costs.png",
          "prepregs.png", "mitigations.png", "mitigations.csv", "quantities.png",
+         "robustness.png",
          "selected.yaml", "selected.s2p")
 
 
@@ -75,6 +76,10 @@ def render_all(result, extra_summary: dict | None = None, sweep=None) -> dict[st
         "prepregs": lambda: figure_bytes(plot_prepregs(result), "png"),
         "candidates.csv": lambda: candidates_csv(result).encode("utf-8"),
     }
+    if result.robust:
+        from stackopt.outputs.plots_robust import plot_robustness
+
+        jobs["robustness"] = lambda: figure_bytes(plot_robustness(result), "png")
     if ladder is not None:
         jobs["mitigations"] = lambda: figure_bytes(plot_mitigations(ladder, result), "png")
     if sweep is not None:

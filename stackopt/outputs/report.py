@@ -21,6 +21,7 @@ from stackopt.outputs.facts import (
 )
 from stackopt.outputs.report_ladder import ladder_section
 from stackopt.outputs.report_render import render_html, render_markdown
+from stackopt.outputs.report_robust import margin_cell, recommendation_blocks, robustness_section
 from stackopt.outputs.report_sections import (
     assumptions,
     cautions,
@@ -36,7 +37,8 @@ __all__ = ["report_document", "report_markdown", "report_html", "IMAGE_FILES"]
 #: Image keys and the file names :func:`stackopt.outputs.bundle.write_all` gives them.
 IMAGE_FILES = {"pareto": "pareto.png", "response": "response.png",
                "stackups": "stackups.png", "costs": "costs.png", "prepregs": "prepregs.png",
-               "mitigations": "mitigations.png", "quantities": "quantities.png"}
+               "mitigations": "mitigations.png", "quantities": "quantities.png",
+               "robustness": "robustness.png"}
 _WORDS = {2: "two", 4: "four", 6: "six", 8: "eight", 10: "ten", 12: "twelve"}
 
 
@@ -174,7 +176,7 @@ def picks_table(result) -> tuple:
         mit = [m for m in result.problem.space.mitigations if ev.geometry.flags[m][i]]
         rows.append([" / ".join(PICKS[n].report for n in names), result.ids[i],
                      str(_layers(result, i)), money(ev.unit_cost[i], cur),
-                     money(ev.lot_cost[i], cur, 0), db(ev.margin[i], sign=True),
+                     money(ev.lot_cost[i], cur, 0), margin_cell(result, i),
                      f"{ev.lead_time_days[i]:g} days",
                      f"{tops[i]}, {mm(ev.geometry.trace_height[i])}",
                      ", ".join(m.replace("_", " ") for m in mit) or "none"])
@@ -193,6 +195,7 @@ def report_document(result, sweep=None) -> list[tuple]:
         blocks.append(("note", "Demo data: the scenario and/or the cost table are invented "
                        "for trying the tool; the prices are not a quote from any fab."))
     blocks += first_screen(result)
+    blocks += recommendation_blocks(result)
     blocks.append(("img", "pareto", "Cost against margin of every candidate evaluated; the "
                    "Pareto front is bold, the picks are ringed."))
     blocks.append(("note", method_line(result)))
@@ -211,6 +214,7 @@ def report_document(result, sweep=None) -> list[tuple]:
 
     blocks += calibration_section(result)
     blocks += spread_table(result)
+    blocks += robustness_section(result)
     if sweep is not None:
         from stackopt.outputs.sweep import sweep_section
 
