@@ -197,3 +197,24 @@ def test_bad_scenario_quantities_name_the_key(tmp_path, capsys):
                  "--out", str(tmp_path / "o")]) == 2
     err = capsys.readouterr().err.strip()
     assert "\n" not in err and "board.quantities" in err and "listed twice" in err
+
+
+def test_sentence_quotes_the_rows_and_a_true_break_even(demo, shifting_table):
+    from stackopt.outputs.sweep import sweep_sentence, sweep_summary
+
+    sc, table = demo
+    sweep = quantity_sweep(sc, table, (100, 10000))
+    rows = sweep_summary(sweep)
+    text = sweep_sentence(sweep)
+    for r in rows:  # the extra per board, from the rows themselves
+        extra = r["recommended"]["unit_cost"] - r["cheapest_two_layer"]["unit_cost"]
+        assert f"{abs(extra):,.2f} EUR {'more' if extra >= 0 else 'less'}" in text
+    assert "break-even" not in text  # four layers cost more at both lots
+    sweep = quantity_sweep(sc, shifting_table, (1, 10, 100, 1000, 10000))
+    rows = sweep_summary(sweep)
+    extra = [r["recommended"]["unit_cost"] - r["cheapest_two_layer"]["unit_cost"]
+             for r in rows]
+    text = sweep_sentence(sweep)
+    k = next(k for k in range(1, len(extra)) if (extra[k] > 0) != (extra[k - 1] > 0))
+    assert f"break-even lies between {rows[k - 1]['quantity']:,} and " \
+           f"{rows[k]['quantity']:,} boards" in text

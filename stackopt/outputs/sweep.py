@@ -83,8 +83,10 @@ def _changes(sweep: QuantitySweep, name: str) -> str:
         last = board
     if len(parts) < 2:
         return ""
-    return (f" The {label(name).lower()} board changes with quantity ("
-            + ", ".join(parts) + ").")
+    what = {"recommended": "recommended board",
+            "cheapest_meeting_requirements": "cheapest board meeting the requirements"
+            }.get(name, f"board picked as {label(name).lower()}")
+    return f" The {what} changes with quantity (" + ", ".join(parts) + ")."
 
 
 def sweep_sentence(sweep: QuantitySweep) -> str:
@@ -105,24 +107,42 @@ def sweep_sentence(sweep: QuantitySweep) -> str:
                 f"{money(r0.evaluation.unit_cost[i0], cur)} per board at {qs[0]:,} and "
                 f"{money(r1.evaluation.unit_cost[i1], cur)} at {qs[-1]:,}."
                 + _changes(sweep, "recommended"))
-    (q0, a0, _t0, n0), (q1, a1, _t1, n1) = pairs[0], pairs[-1]
-    if n0 == 2 and n1 == 2:
+    (q0, a0, _t0, _n0), (q1, a1, _t1, n1) = pairs[0], pairs[-1]
+    layers = [n for *_, n in pairs]
+    if set(layers) == {2}:
         return (f"A two-layer board is recommended at every quantity: "
                 f"{money(a0, cur)} per board at {q0:,}, {money(a1, cur)} at {q1:,}."
                 + _changes(sweep, "recommended"))
     d = [(q, a - t) for q, a, t, _n in pairs]
-    words = _WORDS.get(n1, str(n1)).capitalize()
     lot0, lot1 = d[0][1] * d[0][0], d[-1][1] * d[-1][0]
-    text = (f"{words} layers cost {money(d[0][1], cur)} more per board than the cheapest "
-            f"two-layer board at {d[0][0]:,}, {money(d[-1][1], cur)} at {d[-1][0]:,}; the "
-            f"extra for the lot {'grows' if lot1 >= lot0 else 'shrinks'} from "
-            f"{money(lot0, cur, 0)} to {money(lot1, cur, 0)}.")
+    if len(set(layers)) > 1:
+        steps = [f"{n} at {q:,}" for k, (q, *_, n) in enumerate(pairs)
+                 if k == 0 or n != layers[k - 1]]
+        text = ("The recommended board's layer count changes with quantity ("
+                + ", ".join(steps) + "); against the cheapest two-layer board it costs "
+                f"{_more(d[0][1], cur)} per board at {d[0][0]:,} and {_more(d[-1][1], cur)} "
+                f"at {d[-1][0]:,}.")
+    else:
+        words = _WORDS.get(n1, str(n1)).capitalize()
+        text = (f"{words} layers cost {_more(d[0][1], cur)} per board than the cheapest "
+                f"two-layer board at {d[0][0]:,}, {_more(d[-1][1], cur)} at {d[-1][0]:,}; ")
+        if lot0 > 0 and lot1 > 0:
+            text += (f"the extra for the lot {'grows' if lot1 >= lot0 else 'shrinks'} from "
+                     f"{money(lot0, cur, 0)} to {money(lot1, cur, 0)}.")
+        else:
+            text += (f"for the whole lot {_more(lot0, cur, 0)} and "
+                     f"{_more(lot1, cur, 0)}.")
     sign = [x > 0 for _, x in d]
     for k in range(1, len(d)):
         if sign[k] != sign[k - 1]:
             text += (f" The break-even lies between {d[k - 1][0]:,} and {d[k][0]:,} boards.")
             break
     return text + _changes(sweep, "cheapest_meeting_requirements")
+
+
+def _more(x: float, cur: str, digits: int = 2) -> str:
+    """``"0.12 EUR more"`` or ``"0.05 EUR less"``."""
+    return f"{money(abs(x), cur, digits)} {'more' if x >= 0 else 'less'}"
 
 
 def sweep_section(sweep: QuantitySweep) -> list[tuple]:
