@@ -2,8 +2,8 @@
 
 import json
 
-import numpy as np
 import pytest
+from test_fieldsolve import _cohn_coupled  # Cohn 1955, written out with scipy
 
 from stackopt.cli.main import main
 from stackopt.physics.coplanar import cpwg
@@ -114,19 +114,6 @@ def test_help_runs(capsys):
 
 
 # ------------------------------------------------------------ pairs, offset, field solver
-def _cohn_coupled(w, s, b, er):
-    # S. B. Cohn, IRE T-MTT 3(5), 1955, exact for t = 0: Z0e,o = eta0/(4 sqrt(er)) K(k')/K(k)
-    from scipy.constants import c, mu_0
-    from scipy.special import ellipk
-
-    def ratio(k):
-        return ellipk(1.0 - k**2) / ellipk(k**2)
-
-    a1, a2 = np.pi * w / (2 * b), np.pi * (w + s) / (2 * b)
-    eta = mu_0 * c / (4 * np.sqrt(er))
-    return eta * ratio(np.tanh(a1) * np.tanh(a2)), eta * ratio(np.tanh(a1) / np.tanh(a2))
-
-
 def test_diff_microstrip_modes_are_kirschning_jansen(capsys):
     r = _json(capsys, "--type", "diff-microstrip", "--height", "0.1mm", "--er", "4.2",
               "--width", "0.12mm", "--spacing", "0.15mm")
