@@ -159,3 +159,24 @@ def test_bad_lines_are_one_line_errors(tmp_path, capsys, line, layers, words):
     assert main(["check", str(path)]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "lines" in err and words in err, err
+
+
+def test_eval_prints_every_line_with_layer_and_field_width(tmp_path, capsys):
+    out = tmp_path / "o"
+    assert main(["optimize", str(DEMO), "--out", str(out)]) == 0
+    capsys.readouterr()
+    assert main(["eval", str(DEMO), "--stackup", str(out / "selected.yaml"), "--json"]) == 0
+    got = json.loads(capsys.readouterr().out)
+    rows = {r["name"]: r for r in got["lines"]}
+    assert rows["usb90"]["spacing_m"] == pytest.approx(0.2e-3)
+    assert rows["clk50"]["layer"] == "L3" and rows["clk50"]["width_field_m"] > 0
+
+
+def test_cpwg_gap_and_pair_spacing_meet_the_fab_minimum_space():
+    sc = scenario(layers=(2,), lines=(
+        {"name": "c", "type": "cpwg", "impedance": "50 ohm", "gap": "0.05 mm"},))
+    p = Problem(sc, TABLE)
+    ev = p.evaluate(enumerate_all(p.space))
+    fab_min = TABLE.capabilities.min_space
+    assert 0.05e-3 < fab_min  # the invented quick-turn table's minimum space is wider
+    assert (ev.violations["min_space"] > 0).all()

@@ -32,6 +32,7 @@ def register(sub: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Evaluate and print."""
+    from stackopt.analyses.lines import line_rows
     from stackopt.inputs.stackup_file import load_selected
     from stackopt.search.problem import Problem
     from stackopt.search.single import evaluate_stackup
@@ -62,6 +63,7 @@ def run(args: argparse.Namespace) -> int:
         "line_widths_m": {ln.name: (None if ev.widths[0, j] != ev.widths[0, j]
                                     else float(ev.widths[0, j]))
                           for j, ln in enumerate(sc.lines)},
+        "lines": [r.to_summary() for r in line_rows(problem, g, 0, ev.widths[0])],
         "unit_cost": float(ev.unit_cost[0]), "lot_cost": float(ev.lot_cost[0]),
         "lead_time_days": float(ev.lead_time_days[0]), "currency": inp.table.currency,
         "cost_items": {k: float(v[0]) for k, v in ev.cost_items.items()},
@@ -96,9 +98,15 @@ def run(args: argparse.Namespace) -> int:
         say(table(rows, ["requirement", "reached", "needed"]))
     say(f"margin {out['margin_dB']:+.1f} dB; "
           + ("meets every requirement" if out["meets_requirements"] else "does NOT meet"))
-    for name, w in out["line_widths_m"].items():
-        say(f"line {name}: " + ("no width reaches the target" if w is None
-                                  else fq(w, "length") + " wide"))
+    for r in out["lines"]:
+        head = (f"line {r['name']} ({r['type']} on {r['layer'] or 'no layer'}, "
+                f"{r['target_ohm']:g} ohm{' Zdiff' if r['differential'] else ''}"
+                + (f", spacing {fq(r['spacing_m'], 'length')}" if r["spacing_m"] else "")
+                + "): ")
+        w, wf = r["width_m"], r["width_field_m"]
+        say(head + ("no width reaches the target" if w is None else
+                    fq(w, "length") + " wide by closed form"
+                    + (f", {fq(wf, 'length')} by field solve" if wf else "")))
     rows = [[k, money(v, cur)] for k, v in out["cost_items"].items() if v]
     rows.append(["unit cost", money(out["unit_cost"], cur)])
     say(table(rows, ["cost item", "per board"]))

@@ -308,8 +308,10 @@ class Problem:
 
     def min_space(self, layers: np.ndarray) -> np.ndarray:
         """Narrowest copper-to-copper space the lines need on each candidate, m (N,): the
-        spacing of every pair that has a layer there; NaN where none."""
-        sp = np.array([ln.spacing if ln.spacing is not None else np.inf
+        spacing of every pair and the gap of every cpwg line that has a layer there; NaN
+        where none."""
+        sp = np.array([ln.spacing if ln.spacing is not None else
+                       (ln.gap or self.pour_gap) if ln.type == "cpwg" else np.inf
                        for ln in self.scenario.lines])
         m = np.where(layers >= 0, sp[None, :], np.inf).min(axis=1, initial=np.inf)
         return np.where(np.isfinite(m), m, np.nan)
