@@ -142,3 +142,9 @@ def test_missing_calibration_file_is_one_line_exit_2(scenario_dir, capsys):
     assert main(["check", str(scenario_dir / "cal.yaml")]) == 2
     err = capsys.readouterr().err.strip()
     assert len(err.splitlines()) == 1 and "stackopt_calibration" in err
+
+
+def test_check_shows_the_calibration(scenario_dir, capsys):
+    assert main(["check", str(scenario_dir / "cal.yaml")]) == 0
+    out = capsys.readouterr().out
+    assert "calibration" in out and "goldfarb-pucel x2" in out

@@ -82,5 +82,10 @@ def run(args: argparse.Namespace) -> int:
     if sp.mitigations:
         say(f"       mitigations: {', '.join(sp.mitigations)}")
     say(f"       {sp.size:,} stackups in the space")
+    cal = sc.search.calibration
+    if cal is not None and not isinstance(cal, str):
+        fac = ", ".join(f"{m} x{k:.3g}" for m, k in cal.factors().items())
+        say(f"calibration  {cal.file}: {len(cal.data.coupons)} coupon(s); factors {fac}; "
+            f"ranking model {sc.search.via_model} x{sc.search.via_scale(sc.search.via_model):.3g}")
     say("ok")
     return 0

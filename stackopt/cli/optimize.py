@@ -150,6 +150,10 @@ def say_result(result, say) -> None:
     scenario = result.problem.scenario
     say(f"  method {result.method}: {result.space_size:,} stackups in the space, "
         f"{result.evaluated:,} evaluated, {int(result.on_front.sum())} on the front")
+    from stackopt.outputs.report_calibration import calibration_note
+
+    if note := calibration_note(result):
+        say(f"  via model {scenario.search.via_model}{note}")
     rows = []
     for key, pick in PICKS.items():
         label = pick.console
