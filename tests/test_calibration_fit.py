@@ -223,3 +223,24 @@ def test_shipped_example_coupons_are_marked_synthesized_and_recovered():
         assert fit_shunt(meas.f, meas.s21, meas.z0).inductance == pytest.approx(ind, rel=0.02)
         rec = next(c for c in cal.coupons if c.name == name)
         assert rec.sha256 == meas.sha256 and rec.depth_m == depth
+
+
+def test_lossy_feed_lines_divided_by_a_thru(tmp_path, capsys):
+    # Feed lines with loss (0.5 dB/100 mm at 1 GHz, rising as sqrt(f); an FR-4-like
+    # figure from memory) bias a magnitude-only fit; dividing by a thru of the same feed
+    # lines (built by scikit-rf) removes them.
+    fr = skrf.Frequency.from_f(np.linspace(10e6, 3e9, 301), unit="hz")
+    alpha = (0.5 / 8.686 / 0.1) * np.sqrt(fr.f / 1e9)  # Np/m
+    m = DefinedGammaZ0(fr, z0=50, gamma=alpha + 1j * 2 * np.pi * fr.f * np.sqrt(3.3) / C0)
+    branch = m.resistor(0.005) ** m.inductor(10e-12) ** m.short()
+    coupon = m.line(0.05, "m") ** m.shunt(branch) ** m.line(0.05, "m")
+    thru = m.line(0.1, "m")
+    a, t = write(coupon, tmp_path / "lossy.s2p"), write(thru, tmp_path / "thru.s2p")
+    args = ["fit", a, "--depth", "0.115mm", "--drill", "0.3mm", "--json", "--plot", "none"]
+    assert main(args) == 0
+    biased = json.loads(capsys.readouterr().out)["inductance_H"]
+    assert abs(biased / 10e-12 - 1) > 0.02  # the loss is not negligible here
+    assert main([*args, "--thru", t]) == 0
+    r = json.loads(capsys.readouterr().out)
+    assert r["inductance_H"] == pytest.approx(10e-12, rel=0.02)
+    assert r["thru"] == "thru.s2p"

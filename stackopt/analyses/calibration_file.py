@@ -54,7 +54,7 @@ def calibration_text(data: CalibrationData) -> str:
 
 
 def via_record(name: str, meas, fit, models: dict, *, depth: float, drill: float,
-               count: int, pitch: float | None) -> CouponRecord:
+               count: int, pitch: float | None, thru=None) -> CouponRecord:
     """The record of a fitted shunt-via coupon.
 
     Parameters
@@ -75,6 +75,8 @@ def via_record(name: str, meas, fit, models: dict, *, depth: float, drill: float
         Vias in the connection.
     pitch : float or None
         Their pitch [m] (None for one via).
+    thru : Measurement, optional
+        The thru the coupon was divided by.
     """
     from stackopt.analyses.calibration import best_model
 
@@ -86,7 +88,8 @@ def via_record(name: str, meas, fit, models: dict, *, depth: float, drill: float
         inductance_H=fit.inductance, inductance_ci_H=fit.inductance_ci,
         resistance_ohm=fit.resistance,
         capacitance_F=fit.capacitance if fit.capacitance else None,
-        used_phase=fit.used_phase)
+        used_phase=fit.used_phase, thru=None if thru is None else thru.path.name,
+        thru_sha256=None if thru is None else thru.sha256)
 
 
 def board_record(name: str, meas, cmp, model: str, *, scenario: str, scenario_sha256: str,

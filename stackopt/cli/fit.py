@@ -64,6 +64,9 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--phase", choices=("auto", "on", "off"), default="auto",
                    help="use the phase too (with the feed lines' delay); auto: when the "
                    "model explains it (default: %(default)s)")
+    p.add_argument("--thru", metavar="THRU.s2p",
+                   help="a thru coupon (the same feed lines without the via): the coupon's "
+                   "S21 is divided by it, removing the feed lines' loss and delay")
     p.add_argument("--scenario", metavar="FILE",
                    help="board mode: the scenario whose circuit was measured")
     p.add_argument("--stackup", metavar="FILE", help="board mode: the board's stackup YAML")
@@ -117,6 +120,9 @@ def load_band(args: argparse.Namespace):
     meas = load_two_port(args.file, args.z0)
     lo, hi = args.band if args.band else (None, None)
     meas = meas.band(lo, hi)
+    if getattr(args, "thru", None):
+        args.thru_data = load_two_port(args.thru, args.z0)
+        meas = meas.divided_by(args.thru_data)
     if np.all(np.abs(meas.s21) >= 1.0):
         raise InputError("|S21| is at or above 0 dB at every point in the band, so this is "
                          "not a shunt coupon (a ground connection across a line can only "
@@ -169,7 +175,7 @@ def run(args: argparse.Namespace) -> int:
     models = compare_models(fit.inductance, pred)
     record = via_record(args.name or Path(args.file).stem, meas, fit, models,
                         depth=args.depth, drill=args.drill, count=args.count,
-                        pitch=args.pitch)
+                        pitch=args.pitch, thru=getattr(args, "thru_data", None))
     result = record.model_dump(mode="json", exclude_none=True)
     result.update(confidence=CONFIDENCE, feed_delay_s=fit.delay)
     fig = None

@@ -63,6 +63,29 @@ class Measurement:
                 file=str(self.path), key="--band", fix="give a band inside that range")
         return Measurement(self.path, self.sha256, self.f[sel], self.s21[sel], self.z0)
 
+    def divided_by(self, thru: Measurement) -> Measurement:
+        """S21 divided by a thru's S21 (the feed lines alone): removes their loss and
+        delay. The thru is interpolated onto these frequencies (log magnitude and unwrapped
+        phase, linear in frequency).
+
+        Raises
+        ------
+        InputError
+            When these frequencies reach outside the thru's sweep.
+        """
+        if self.f[0] < thru.f[0] * (1 - 1e-9) or self.f[-1] > thru.f[-1] * (1 + 1e-9):
+            from stackopt.units import format_quantity as fq
+
+            raise InputError(
+                f"the thru covers {fq(thru.f[0], 'frequency')} to {fq(thru.f[-1], 'frequency')},"
+                f" less than the coupon's {fq(self.f[0], 'frequency')} to "
+                f"{fq(self.f[-1], 'frequency')}", file=str(thru.path), key="--thru",
+                fix="measure the thru over the coupon's sweep, or narrow --band")
+        logmag = np.interp(self.f, thru.f, np.log(np.abs(thru.s21)))
+        phase = np.interp(self.f, thru.f, np.unwrap(np.angle(thru.s21)))
+        return Measurement(self.path, self.sha256, self.f, self.s21 / np.exp(logmag + 1j * phase),
+                           self.z0)
+
 
 def file_sha256(path: str | Path) -> str:
     """SHA-256 (hex) of a file's bytes."""

@@ -55,6 +55,8 @@ class CouponRecord(BaseModel):
     resistance_ohm: float | None = Field(None, ge=0)
     capacitance_F: float | None = Field(None, ge=0)
     used_phase: bool | None = None
+    thru: str | None = None  # the thru the coupon was divided by (--thru) ...
+    thru_sha256: str | None = None  # ... and its hash
     # kind: board
     scenario: str | None = None
     scenario_sha256: str | None = None
