@@ -100,6 +100,9 @@ class _Located(Exception):
         self.message = message
         self.file = str(file) if file is not None else None
         self.key = format_key_path(key)
+        #: the key path as parts (``["elements", 2, "name"]``; a string key as one part)
+        self.key_parts: list[str | int] = ([] if key is None else [key] if isinstance(
+            key, str) else list(key))
         self.line = line
         self.column = column
         self.fix = fix

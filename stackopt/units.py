@@ -71,7 +71,7 @@ _UNITS: dict[str, dict[str, float]] = {
 }
 # Case-insensitive fallbacks that are unambiguous (MHz vs mHz is not: keep case there).
 _ALIASES = {"ohm": "ohm", "OHM": "ohm", "Ohm": "ohm", "MIL": "mil", "Mil": "mil", "IN": "in",
-            "MM": "mm", "Mm": "mm", "UM": "um", "ghz": "GHz", "mhz": "MHz", "khz": "kHz",
+            "UM": "um", "ghz": "GHz", "mhz": "MHz", "khz": "kHz",
             "hz": "Hz", "Ghz": "GHz", "Mhz": "MHz", "Khz": "kHz", "KHz": "kHz", "OZ": "oz",
             "Oz": "oz", "nh": "nH", "ph": "pH", "uh": "uH", "pf": "pF", "nf": "nF", "uf": "uF"}
 
@@ -137,6 +137,11 @@ def parse_quantity(
         if unit:
             found = _lookup(unit)
             if found is None:
+                same = [u for u in units_for(dim) if u.lower() == unit.lower()]
+                if same:  # 'Mm' is megametres, 'MM' nothing: letter case carries meaning
+                    raise UnitError(f"unit {unit!r} in {value!r} is not {same[0]!r}: the "
+                                    "letter case of a unit matters (M is mega, m is milli)",
+                                    key=key, file=file, fix=f"write {same[0]!r}")
                 raise UnitError(f"unknown unit {unit!r} in {value!r}", key=key, file=file,
                                 fix=f"a {dim} takes one of: {accepted}")
             udim, scale = found

@@ -185,3 +185,27 @@ def test_failed_write_leaves_folder_as_it_was(tmp_path, monkeypatch):
         write_result(out, {"a.txt": b"2", "b.txt": b"3"}, force=True)
     assert (out / "a.txt").read_bytes() == b"1" and not (out / "b.txt").exists()
     assert _leftovers(tmp_path) == []
+
+
+@pytest.mark.slow
+def test_force_rerun_four_layer_only_drops_the_ladder_files(tmp_path):
+    """The reported case: a four-layer-only rerun kept the old mitigations.csv/.png."""
+    import yaml
+
+    from stackopt.cli.main import main
+
+    out = tmp_path / "out"
+    assert main(["optimize", SCENARIO, "--costs", COSTS, "--out", str(out), "--quiet"]) == 0
+    assert (out / "mitigations.csv").is_file()
+    data = yaml.safe_load(Path(SCENARIO).read_text(encoding="utf-8"))
+    data.pop("cost_table")
+    data["space"].update(layers=[4], mitigations=[])
+    four = tmp_path / "four.yaml"
+    four.write_text(yaml.safe_dump(data), encoding="utf-8")
+    assert main(["optimize", str(four), "--costs", COSTS, "--out", str(out), "--quiet",
+                 "--force"]) == 0
+    assert not (out / "mitigations.csv").exists() and not (out / "mitigations.png").exists()
+    import json
+
+    assert json.loads((out / "summary.json").read_text())["mitigation_ladder"] is None
+    assert _leftovers(tmp_path) == []

@@ -81,24 +81,27 @@ def register(sub: argparse._SubParsersAction) -> None:
                    type=choice(LINE_TYPES, "line type"),
                    help=f"one of {', '.join(LINE_TYPES)}")
     p.add_argument("--height", required=True, metavar="LENGTH",
-                   type=quantity("length", "--height"),
+                   type=quantity("length", "--height", kind="dielectric"),
                    help="trace-to-plane dielectric; stripline types: plane-to-plane spacing")
     p.add_argument("--er", required=True, metavar="ER", type=_er,
                    help="relative permittivity of the dielectric (1 to 20)")
     p.add_argument("--copper", default=35e-6, metavar="LENGTH",
-                   type=quantity("length", "--copper", positive=False),
+                   type=quantity("length", "--copper", positive=False, kind="copper"),
                    help="copper thickness, e.g. 35um or 1oz (default: 35 um)")
     size = p.add_mutually_exclusive_group(required=True)
-    size.add_argument("--width", metavar="LENGTH", type=quantity("length", "--width"),
+    size.add_argument("--width", metavar="LENGTH",
+                      type=quantity("length", "--width", kind="trace_width"),
                       help="trace width (each trace of a pair): give the impedance")
-    size.add_argument("--target", metavar="OHM", type=quantity("impedance", "--target"),
+    size.add_argument("--target", metavar="OHM",
+                      type=quantity("impedance", "--target", kind="line_impedance"),
                       help="single-ended target impedance: give the width")
     size.add_argument("--target-diff", metavar="OHM", dest="target_diff",
-                      type=quantity("impedance", "--target-diff"),
+                      type=quantity("impedance", "--target-diff", kind="line_impedance"),
                       help="differential target (diff- types): give the width for --spacing")
-    p.add_argument("--spacing", metavar="LENGTH", type=quantity("length", "--spacing"),
+    p.add_argument("--spacing", metavar="LENGTH",
+                   type=quantity("length", "--spacing", kind="gap"),
                    help="diff- types only (required there): edge-to-edge spacing of the pair")
-    p.add_argument("--gap", metavar="LENGTH", type=quantity("length", "--gap"),
+    p.add_argument("--gap", metavar="LENGTH", type=quantity("length", "--gap", kind="gap"),
                    help="cpwg only (required there): trace edge to coplanar ground copper")
     p.add_argument("--offset", metavar="LENGTH", type=quantity("length", "--offset",
                                                                positive=False),

@@ -50,21 +50,23 @@ def register(sub: argparse._SubParsersAction) -> None:
         "Lengths take mm, um, mil, in or bare metres; frequencies Hz, kHz, MHz, GHz.",
         epilog=EPILOG, formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("--depth", required=True, metavar="LENGTH",
-                   type=quantity("length", "--depth"),
+                   type=quantity("length", "--depth", kind="via_depth"),
                    help="pad-to-plane distance (dielectric thickness), e.g. 0.19mm or 7.5mil")
     p.add_argument("--drill", required=True, metavar="LENGTH",
-                   type=quantity("length", "--drill"),
+                   type=quantity("length", "--drill", kind="drill"),
                    help="plated barrel diameter, e.g. 0.3mm")
     p.add_argument("--model", default=DEFAULT_VIA_MODEL, metavar="MODEL",
                    type=choice(VIA_MODELS, "model"),
                    help=f"one of {', '.join(VIA_MODELS)} (default: %(default)s)")
     p.add_argument("--count", default=1, metavar="N", type=count("--count", 1, 100),
                    help="vias in parallel, placed in a row (default: 1)")
-    p.add_argument("--pitch", metavar="LENGTH", type=quantity("length", "--pitch"),
+    p.add_argument("--pitch", metavar="LENGTH",
+                   type=quantity("length", "--pitch", kind="via_pitch"),
                    help="centre-to-centre spacing of the vias; needed when --count > 1")
-    p.add_argument("--freq", metavar="FREQ", type=quantity("frequency", "--freq"),
+    p.add_argument("--freq", metavar="FREQ", type=quantity("frequency", "--freq", kind="frequency"),
                    help="also give the transmission past the via as a shunt, e.g. 800MHz")
-    p.add_argument("--z0", default=50.0, metavar="OHM", type=quantity("impedance", "--z0"),
+    p.add_argument("--z0", default=50.0, metavar="OHM",
+                   type=quantity("impedance", "--z0", kind="z0"),
                    help="reference impedance of the line for --freq (default: 50 ohm)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.set_defaults(func=run)

@@ -29,6 +29,7 @@ def run(args: argparse.Namespace) -> int:
 
     inp = load_inputs(args.scenario, args.costs)
     sc, tb = inp.scenario, inp.table
+    _feasibility(inp)
     compiled = compile_circuit(sc.circuit)
     problem = Problem(sc, tb)
     sp = problem.space
@@ -89,3 +90,17 @@ def run(args: argparse.Namespace) -> int:
             f"ranking model {sc.search.via_model} x{sc.search.via_scale(sc.search.via_model):.3g}")
     say("ok")
     return 0
+
+
+def _feasibility(inp) -> None:
+    """What ``optimize`` would drop or refuse: warnings, or the first error (exit 2)."""
+    import warnings
+
+    from stackopt.errors import InputError, StackoptWarning
+    from stackopt.search.feasibility import fab_findings
+
+    for f in fab_findings(inp.scenario, inp.table):
+        if f.level == "error":
+            raise InputError(f.message, file=inp.scenario_path, key=f.key, fix=f.fix)
+        warnings.warn(StackoptWarning(f.message, file=inp.scenario_path, key=f.key,
+                                      fix=f.fix), stacklevel=2)

@@ -13,6 +13,7 @@ from stackopt.cli.text import say as _say
 from stackopt.errors import InputError
 from stackopt.outputs.facts import money
 from stackopt.outputs.robust_text import limit_line, recommendation_line, robust_cells
+from stackopt.plausible import SEED_MAX
 from stackopt.search.picks import PICKS
 
 
@@ -43,7 +44,7 @@ def register(sub: argparse._SubParsersAction) -> None:
                    "('rates: {USD/EUR: 0.92}')")
     p.add_argument("--out", metavar="DIR", help="output folder (default: "
                    "./stackopt-out/<scenario name>/, with -<fab> for a --costs table)")
-    p.add_argument("--seed", type=count("--seed", 0, 2**31 - 1), help="random seed "
+    p.add_argument("--seed", type=count("--seed", 0, SEED_MAX), help="random seed "
                    "(default: the scenario's)")
     p.add_argument("--method", choices=("auto", "exact", "nsga2"), help="search method "
                    "(default: the scenario's, normally auto = exact where it finishes)")
@@ -94,9 +95,9 @@ def run(args: argparse.Namespace) -> int:
     from stackopt.outputs.resultdir import pause_point
     from stackopt.search.memo import ResponseMemo
 
-    out = Path(args.out) if args.out is not None else None
-    if out is not None:  # a bad --out is refused before the inputs are even read
-        out = prepare_out_dir(out, args.force)
+    out = None
+    if args.out is not None:  # a bad --out is refused before the inputs are even read
+        out = prepare_out_dir(args.out, args.force)
     inp = load_inputs(args.scenario, costs[0] if costs else None, args.calibration)
     if out is None:
         out = prepare_out_dir(default_out(inp.scenario.name,
@@ -121,6 +122,10 @@ def run(args: argparse.Namespace) -> int:
         extra = {"inputs": {"scenario": str(inp.scenario_path.name),
                             "cost_table": str(inp.table_path.name), "sha256": inp.hashes()}}
         write_all(result, out, force=args.force, extra_summary=extra, sweep=sweep)
+    except InputError as exc:  # a rule of the search: it concerns the scenario's keys
+        if exc.file is not None:
+            raise
+        raise exc.located(file=inp.scenario_path) from None
     except Interrupted as exc:
         bar.close()
         if exc.out is None:

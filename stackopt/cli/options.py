@@ -3,20 +3,37 @@
 from __future__ import annotations
 
 import argparse
+import re
 from collections.abc import Callable, Collection
 
 from stackopt.errors import UnitError, did_you_mean
+from stackopt.plausible import judge
 from stackopt.units import Dimension, parse_quantity
 
+_BARE = re.compile(r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$")
 
-def quantity(dim: Dimension, option: str, *, positive: bool = True) -> Callable[[str], float]:
+
+def _shown(text: str) -> str:
+    """The user's text for a message: one line, at most 40 characters."""
+    t = ascii(text)[1:-1]
+    return t if len(t) <= 40 else t[:37] + "..."
+
+
+def quantity(dim: Dimension, option: str, *, positive: bool = True,
+             kind: str | None = None) -> Callable[[str], float]:
     """An argparse ``type=`` that parses ``"0.19mm"``/``"800MHz"``/bare SI into a float.
 
-    Errors are one line naming the fix; argparse adds the option's name and the parser
-    turns it into an :class:`~stackopt.errors.InputError` (exit code 2).
+    With ``kind`` (a key of :data:`stackopt.plausible.RANGES`) the value must be
+    plausible for that kind; a bare number outside it is refused with the unit the user
+    probably meant. Errors are one line naming the fix; argparse adds the option's name
+    and the parser turns it into an :class:`~stackopt.errors.InputError` (exit code 2).
     """
 
     def parse(text: str) -> float:
+        if len(text) > 60:
+            raise argparse.ArgumentTypeError(
+                f"{_shown(text)} is too long for a {dim}; write a number of a few digits "
+                "and a unit, e.g. 0.3mm")
         try:
             x = parse_quantity(text, dim)
         except UnitError as exc:
@@ -24,6 +41,10 @@ def quantity(dim: Dimension, option: str, *, positive: bool = True) -> Callable[
         if positive and x <= 0:
             raise argparse.ArgumentTypeError(
                 f"must be greater than zero, got {text!r}; give a positive {dim}")
+        if kind is not None and x != 0:  # zero: the option's own rule decides
+            verdict = judge(kind, x, bare=bool(_BARE.match(text)), written=text)
+            if verdict is not None and verdict[0] == "error":
+                raise argparse.ArgumentTypeError(f"{verdict[1]}; {verdict[2]}")
         return x
 
     parse.__name__ = dim  # argparse shows this in its messages
@@ -50,11 +71,13 @@ def count(option: str, lo: int = 1, hi: int = 1000) -> Callable[[str], int]:
 
     def parse(text: str) -> int:
         try:
+            if len(text) > 40:
+                raise ValueError
             n = int(text)
         except ValueError:
             raise argparse.ArgumentTypeError(
-                f"expected a whole number, got {text!r}; give an integer from {lo} to {hi}"
-            ) from None
+                f"expected a whole number, got '{_shown(text)}'; give an integer from {lo} "
+                f"to {hi}") from None
         if not lo <= n <= hi:
             raise argparse.ArgumentTypeError(
                 f"{n} is out of range; give an integer from {lo} to {hi}")

@@ -57,7 +57,8 @@ def _cell_int(text: str, what: str, file: str, line: int, key: str) -> int:
     try:
         return int(text)
     except ValueError:
-        raise InputError(f"{what} {text!r} is not a whole number", file=file, line=line,
+        shown = repr(text) if len(text) <= 40 else repr(text[:37] + "...")
+        raise InputError(f"{what} {shown} is not a whole number", file=file, line=line,
                          key=key, fix="write a plain integer such as 4 or 100") from None
 
 
@@ -124,7 +125,8 @@ def read_price_csv(path: str | Path) -> PriceCsv:
             try:
                 row.append(float(c))
             except ValueError:
-                raise InputError(f"price {c!r} is not a number", file=file, line=line,
+                shown = repr(c) if len(c) <= 40 else repr(c[:37] + "...")
+                raise InputError(f"price {shown} is not a number", file=file, line=line,
                                  key=key, fix="write a plain number in the table currency, "
                                  "without a currency sign") from None
         layers[n], lines[n] = row, line

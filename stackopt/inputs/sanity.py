@@ -1,176 +1,126 @@
-"""Physical range checks on loaded inputs: errors for impossible values, warnings for
+"""Physical range checks on loaded inputs: errors for implausible values, warnings for
 legal but unusual ones.
 
 The schema (pydantic) checks types, units and signs; this module checks that a value is
-one a PCB can have. Each rule names a key path (``*`` matches any list index or map
-key), a hard range outside which the value is an error (:class:`InputError`, located in
-the file), and an optional softer range outside which it is only unusual
-(:class:`~stackopt.errors.StackoptWarning`, issued through :mod:`warnings`; the library
-never prints, the CLI shows each as one ``stackopt: warning:`` line).
-
-The limits are deliberately wide: they catch a unit slip (a 16 mm dielectric meant as
-0.16 mm, a 5 mm "via", 5 THz) rather than second-guess a design. Where they come from:
-common practice, no source — rigid boards are about 0.2 to 3.2 mm thick with dielectric
-layers of roughly 40 um to a few mm, FR-4-class laminates have Dk about 3.5 to 5 (PTFE
-about 2.1, ceramic-filled laminates up to about 10 and above), foils are 1/8 to a few
-oz, mechanically drilled vias are about 0.1 to 1 mm, and the closed-form via and line
-models used here are meant for frequencies up to some tens of GHz.
+one a PCB can have, against the one table of plausible ranges
+(:data:`stackopt.plausible.RANGES`). Each rule names a key path (``*`` matches any list
+index or map key), the kind of quantity there and, optionally, a sibling key that must
+hold a value for the rule to apply (``type: C`` for an element's value). A value outside
+its kind's hard range is an error (:class:`InputError`, located in the file); a bare
+number there (no unit written, read as SI) is an error that suggests the unit meant;
+outside the softer range it is only unusual (:class:`~stackopt.errors.StackoptWarning`,
+issued through :mod:`warnings`; the CLI shows each as one ``stackopt: warning:`` line).
 """
 
 from __future__ import annotations
 
-import math
+import re
 import warnings
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
-from typing import Any, TypedDict
+from typing import Any
 
 from pydantic import BaseModel
 
 from stackopt.errors import InputError, StackoptWarning
 from stackopt.inputs.yamlio import Document
-from stackopt.units import Dimension, format_quantity
+from stackopt.plausible import judge
 
-__all__ = ["Rule", "SCENARIO_RULES", "COST_TABLE_RULES", "check_ranges", "check_scenario",
-           "check_cost_table"]
+__all__ = ["Rule", "SCENARIO_RULES", "COST_TABLE_RULES", "STACKUP_RULES", "check_ranges",
+           "check_scenario", "check_cost_table", "check_data"]
 
 KeyPattern = tuple[str, ...]
 
 
 @dataclass(frozen=True)
 class Rule:
-    """Error outside ``[lo, hi]``; warning outside ``[warn_lo, warn_hi]`` (SI units)."""
+    """Values at ``path`` are of ``kind`` (a key of :data:`~stackopt.plausible.RANGES`);
+    ``what`` names them in messages (default: the kind's own name); with ``when =
+    (key, value)`` the rule applies only where the sibling ``key`` holds ``value``."""
 
     path: KeyPattern
-    dim: Dimension
-    what: str
-    lo: float
-    hi: float
-    warn_lo: float | None = None
-    warn_hi: float | None = None
-    low_note: str = ""
-    high_note: str = ""
-
-
-def _fmt(x: float, dim: Dimension) -> str:
-    if dim == "decibel":
-        return f"{x:g} dB"
-    if dim == "dimensionless":
-        return f"{x:g}"
-    return format_quantity(x, dim)
-
-
-_GHZ = 1e9
-_F_NOTE = "the closed-form via and line models are meant for up to some tens of GHz"
-
-
-def _freq(path: KeyPattern, what: str, warn: bool = True) -> Rule:
-    return Rule(path, "frequency", what, 1.0, 1e12, warn_lo=1e6 if warn else None,
-                warn_hi=20 * _GHZ if warn else None,
-                low_note="ground-via inductance hardly matters below 1 MHz",
-                high_note=_F_NOTE)
-
-
-def _drill(path: KeyPattern, what: str = "a via drill") -> Rule:
-    return Rule(path, "length", what, 10e-6, 2e-3, warn_lo=50e-6, warn_hi=1e-3,
-                low_note="smaller than laser-drilled microvias",
-                high_note="larger than usual for a via; is it a mounting hole?")
-
-
-def _copper(path: KeyPattern) -> Rule:
-    return Rule(path, "length", "a copper foil thickness", 1e-6, 0.5e-3, warn_hi=140e-6,
-                high_note="heavier than 4 oz copper")
-
-
-def _board_t(path: KeyPattern, what: str = "a finished board thickness") -> Rule:
-    return Rule(path, "length", what, 50e-6, 12e-3, warn_lo=0.2e-3, warn_hi=3.2e-3,
-                low_note="thinner than usual rigid boards",
-                high_note="thicker than usual rigid boards")
-
-
-def _side(path: KeyPattern, what: str, hi: float) -> Rule:
-    return Rule(path, "length", what, 1e-3, hi)
-
-
-def _dielectric(path: KeyPattern, what: str = "a dielectric thickness") -> Rule:
-    return Rule(path, "length", what, 5e-6, 10e-3, warn_lo=40e-6, warn_hi=3.2e-3,
-                low_note="thinner than usual prepreg plies; check the unit",
-                high_note="thicker than usual laminate cores")
+    kind: str
+    what: str | None = None
+    when: tuple[str, str] | None = None
 
 
 def _ground(base: KeyPattern) -> list[Rule]:
-    return [
-        Rule(base + ("trace_length",), "length", "a pad-to-via trace length", 0.0, 0.5,
-             warn_hi=20e-3, high_note="long for a ground connection"),
-        Rule(base + ("trace_width",), "length", "a pad-to-via trace width", 1e-6, 50e-3),
-        Rule(base + ("pitch",), "length", "a via pitch", 10e-6, 0.1),
-        _drill(base + ("drill",)),
-    ]
+    return [Rule(base + ("trace_length",), "trace_length"),
+            Rule(base + ("trace_width",), "trace_width", "a pad-to-via trace width"),
+            Rule(base + ("pitch",), "via_pitch"),
+            Rule(base + ("drill",), "drill")]
 
 
 def _parts(base: KeyPattern) -> list[Rule]:
-    return [
-        Rule(base + ("esl",), "inductance", "a part's series inductance (ESL)", 0.0, 1e-6,
-             warn_hi=20e-9, high_note="larger than usual for a chip part"),
-        Rule(base + ("q",), "dimensionless", "a quality factor", 0.01, 1e6),
-        _freq(base + ("q_at",), "the frequency of a quality factor", warn=False),
-    ]
+    return [Rule(base + ("esl",), "esl"), Rule(base + ("esr",), "esr"),
+            Rule(base + ("q",), "q"),
+            Rule(base + ("q_at",), "frequency", "the frequency of a quality factor")]
 
+
+_EL = ("circuit", "elements", "*", "value")
 
 #: Range rules of a scenario (paths into :class:`~stackopt.model.scenario.Scenario`).
 SCENARIO_RULES: tuple[Rule, ...] = (
-    _side(("board", "width"), "a board side", 2.0),
-    _side(("board", "height"), "a board side", 2.0),
-    _freq(("requirements", "*", "frequency"), "a requirement frequency"),
-    _freq(("requirements", "*", "band", "*"), "a requirement band edge"),
-    Rule(("requirements", "*", "min_attenuation"), "decibel", "a required attenuation",
-         0.0, 250.0, warn_hi=120.0,
-         high_note="boards rarely reach this; coupling not modelled will limit it"),
-    Rule(("circuit", "z0"), "impedance", "a reference impedance", 0.1, 10e3,
-         warn_lo=10.0, warn_hi=200.0, low_note="unusually low", high_note="unusually high"),
-    _freq(("circuit", "filter", "cutoff"), "a filter cutoff"),
-    Rule(("circuit", "filter", "spacing"), "length", "a ground connection spacing",
-         1e-6, 1.0),
+    Rule(("board", "width"), "board_side"),
+    Rule(("board", "height"), "board_side"),
+    Rule(("board", "quantity"), "quantity"),
+    Rule(("requirements", "*", "frequency"), "frequency", "a requirement frequency"),
+    Rule(("requirements", "*", "band", "*"), "frequency", "a requirement band edge"),
+    Rule(("requirements", "*", "min_attenuation"), "attenuation"),
+    Rule(("circuit", "z0"), "z0"),
+    Rule(("circuit", "filter", "cutoff"), "frequency", "a filter cutoff"),
+    Rule(("circuit", "filter", "spacing"), "spacing"),
     *_ground(("circuit", "filter", "ground")),
     *_ground(("circuit", "grounds", "*")),
-    Rule(("circuit", "grounds", "*", "at", "*"), "length", "a board position", -2.0, 2.0),
-    Rule(("circuit", "grounds", "*", "vias_at", "*", "*"), "length", "a via offset",
-         -0.1, 0.1),
+    Rule(("circuit", "grounds", "*", "at", "*"), "position"),
+    Rule(("circuit", "grounds", "*", "vias_at", "*", "*"), "via_offset"),
     *_parts(("circuit", "filter", "capacitor")),
     *_parts(("circuit", "filter", "inductor")),
     *_parts(("circuit", "elements", "*")),
-    Rule(("lines", "*", "max_width"), "length", "a line width", 1e-6, 0.1),
-    Rule(("lines", "*", "gap"), "length", "a coplanar gap", 1e-6, 50e-3),
-    Rule(("space", "layers", "*"), "dimensionless", "a layer count", 2, 64),
-    _copper(("space", "copper", "*")),
-    _drill(("space", "drills", "*")),
-    _board_t(("space", "thickness", "nominal")),
-    _board_t(("space", "thickness", "min")),
-    _board_t(("space", "thickness", "max")),
-    _freq(("search", "at"), "the objective frequency"),
+    Rule(_EL, "capacitance", "a capacitor", when=("type", "C")),
+    Rule(_EL, "inductance", "an inductor", when=("type", "L")),
+    Rule(_EL, "resistance", "a resistor", when=("type", "R")),
+    Rule(("lines", "*", "impedance"), "line_impedance"),
+    Rule(("lines", "*", "max_width"), "trace_width", "a line width"),
+    Rule(("lines", "*", "gap"), "gap", "a coplanar gap"),
+    Rule(("space", "layers", "*"), "layers"),
+    Rule(("space", "copper", "*"), "copper"),
+    Rule(("space", "drills", "*"), "drill"),
+    Rule(("space", "thickness", "nominal"), "board_thickness"),
+    Rule(("space", "thickness", "min"), "board_thickness"),
+    Rule(("space", "thickness", "max"), "board_thickness"),
+    Rule(("search", "at"), "frequency", "the objective frequency"),
+    Rule(("search", "seed"), "seed"),
 )
 
 #: Range rules of a fab cost table (paths into :class:`~stackopt.model.costtable.CostTable`).
 COST_TABLE_RULES: tuple[Rule, ...] = (
-    _side(("panel", "width"), "a panel side", 3.0),
-    _side(("panel", "height"), "a panel side", 3.0),
-    _dielectric(("materials", "prepregs", "*", "thickness"), "a prepreg ply thickness"),
-    _dielectric(("materials", "cores", "*", "thickness"), "a core thickness"),
-    Rule(("materials", "*", "*", "dk"), "dimensionless", "a relative permittivity (Dk)",
-         1.0, 20.0, warn_lo=2.0, warn_hi=10.0, low_note="below PTFE laminates (about 2.1)",
-         high_note="FR-4-class laminates are about 3.5 to 5; ceramic-filled?"),
-    Rule(("materials", "*", "*", "df"), "dimensionless", "a loss tangent (Df)", 0.0, 0.5,
-         warn_hi=0.05, high_note="lossier than FR-4 (about 0.02)"),
-    _copper(("copper", "*", "weight")),
-    _drill(("drill", "*", "min_drill")),
-    Rule(("capabilities", "min_trace"), "length", "a minimum trace width", 1e-6, 5e-3),
-    Rule(("capabilities", "min_space"), "length", "a minimum spacing", 1e-6, 5e-3),
-    _dielectric(("capabilities", "min_dielectric"), "a minimum dielectric thickness"),
-    _drill(("capabilities", "min_drill"), "a minimum drill"),
-    Rule(("capabilities", "max_aspect_ratio"), "dimensionless", "a drill aspect ratio",
-         0.5, 100.0, warn_hi=20.0, high_note="above what mechanical drilling usually plates"),
-    _board_t(("capabilities", "standard_thicknesses", "*"), "a standard board thickness"),
-    _board_t(("capabilities", "max_thickness"), "a maximum board thickness"),
+    Rule(("panel", "width"), "panel_side"),
+    Rule(("panel", "height"), "panel_side"),
+    Rule(("materials", "prepregs", "*", "thickness"), "dielectric", "a prepreg ply thickness"),
+    Rule(("materials", "cores", "*", "thickness"), "dielectric", "a core thickness"),
+    Rule(("materials", "*", "*", "dk"), "dk"),
+    Rule(("materials", "*", "*", "df"), "df"),
+    Rule(("copper", "*", "weight"), "copper"),
+    Rule(("drill", "*", "min_drill"), "drill"),
+    Rule(("capabilities", "min_trace"), "min_feature", "a minimum trace width"),
+    Rule(("capabilities", "min_space"), "min_feature", "a minimum spacing"),
+    Rule(("capabilities", "min_dielectric"), "dielectric", "a minimum dielectric thickness"),
+    Rule(("capabilities", "min_drill"), "drill", "a minimum drill"),
+    Rule(("capabilities", "max_aspect_ratio"), "aspect_ratio"),
+    Rule(("capabilities", "standard_thicknesses", "*"), "board_thickness",
+         "a standard board thickness"),
+    Rule(("capabilities", "max_thickness"), "board_thickness", "a maximum board thickness"),
+)
+
+#: Range rules of a stackup file (``eval --stackup``), on the file's own keys.
+STACKUP_RULES: tuple[Rule, ...] = (
+    Rule(("layers", "*", "thickness"), "copper", when=("kind", "copper")),
+    Rule(("layers", "*", "thickness"), "dielectric", when=("kind", "prepreg")),
+    Rule(("layers", "*", "thickness"), "dielectric", when=("kind", "core")),
+    Rule(("layers", "*", "dk"), "dk"),
+    Rule(("layers", "*", "df"), "df"),
+    Rule(("drill",), "drill"),
 )
 
 
@@ -189,68 +139,74 @@ def _values(data: Any, pattern: Sequence[str], at: tuple = ()) -> Iterator[tuple
             yield from _values(v, rest, at + (i,))
 
 
-def _raw(doc: Document | None, path: tuple) -> Any:
-    """The value as written in the file (``'16 mm'``), if it can be found."""
-    cur = None if doc is None else doc.data
+def _at(data: Any, path: Sequence) -> Any:
+    cur = data
     for p in path:
         if isinstance(cur, dict) and p in cur:
             cur = cur[p]
-        elif isinstance(cur, list) and isinstance(p, int) and 0 <= p < len(cur):
+        elif isinstance(cur, list | tuple) and isinstance(p, int) and 0 <= p < len(cur):
             cur = cur[p]
         else:
             return None
+    return cur
+
+
+_BARE = re.compile(r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$")
+
+
+def _raw(doc: Document | None, path: tuple) -> Any:
+    """The value as written in the file (``'16 mm'``, ``6.8``), if it can be found."""
+    cur = None if doc is None else _at(doc.data, path)
     return cur if isinstance(cur, str | int | float) and not isinstance(cur, bool) else None
 
 
-class _Where(TypedDict):
-    """Where a value sits, in the keywords :class:`InputError` and the warning take."""
-
-    file: str | None
-    key: list[str | int]
-    line: int | None
-    column: int | None
-
-
-def check_ranges(model: BaseModel, rules: Sequence[Rule], doc: Document | None = None,
-                 file: str | None = None) -> None:
-    """Apply ``rules`` to a validated model.
+def check_data(data: Any, rules: Sequence[Rule], doc: Document | None = None,
+               file: str | None = None, raw_data: Any = None) -> None:
+    """Apply ``rules`` to plain ``data`` holding SI numbers (``raw_data``, default the
+    document's, holds the values as written: a bare number there gets a unit suggested).
 
     Raises
     ------
     InputError
-        A value outside a rule's hard range (located in ``doc`` where given).
+        A value outside its kind's hard range (located in ``doc`` where given).
 
     Warns
     -----
     StackoptWarning
-        A value outside a rule's softer range.
+        A value outside its kind's softer range.
     """
-    data = model.model_dump(mode="python")
     fname = doc.file if doc is not None else file
     for rule in rules:
         for path, x in _values(data, rule.path):
             if x is None or isinstance(x, bool) or not isinstance(x, int | float):
                 continue
-            raw = _raw(doc, path)
-            shown = _fmt(float(x), rule.dim)
-            if raw is not None and str(raw) != shown:
-                shown += f" (from {raw!r})"
-            line, col = doc.where(path) if doc is not None else (None, None)
-            where: _Where = {"file": fname, "key": list(path), "line": line, "column": col}
-            if not (math.isfinite(x) and rule.lo <= x <= rule.hi):
-                raise InputError(f"{shown} is not a plausible value for {rule.what}",
-                                 fix=f"give {_fmt(rule.lo, rule.dim)} to "
-                                 f"{_fmt(rule.hi, rule.dim)} (check the unit)", **where)
-            if rule.warn_lo is not None and x < rule.warn_lo:
-                note, limit = rule.low_note, f"below {_fmt(rule.warn_lo, rule.dim)}"
-            elif rule.warn_hi is not None and x > rule.warn_hi:
-                note, limit = rule.high_note, f"above {_fmt(rule.warn_hi, rule.dim)}"
-            else:
+            if rule.when is not None:
+                parent = _at(data, path[:-1])
+                if not isinstance(parent, dict) or parent.get(rule.when[0]) != rule.when[1]:
+                    continue
+            raw = _raw(doc, path) if raw_data is None else _at(raw_data, path)
+            bare = raw is not None and (isinstance(raw, int | float)
+                                        or bool(_BARE.match(str(raw))))
+            verdict = judge(rule.kind, float(x), bare=bare, written=raw, what=rule.what)
+            if verdict is None:
                 continue
-            warnings.warn(StackoptWarning(f"{shown} for {rule.what} is unusual ({limit}"
-                                          + (f": {note}" if note else "") + ")",
-                                          fix="check it; it is used as given", **where),
+            level, message, fix = verdict
+            parent = _at(data, path[:-1])
+            name = parent.get("name") if isinstance(parent, dict) else None
+            if isinstance(name, str) and name:
+                message = f"{name}: {path[-1]} {message}"
+            line, col = doc.where(path) if doc is not None else (None, None)
+            where = {"file": fname, "key": list(path), "line": line, "column": col}
+            if level == "error":
+                raise InputError(message, fix=fix, **where)  # type: ignore[arg-type]
+            warnings.warn(StackoptWarning(message, fix=fix, **where),  # type: ignore[arg-type]
                           stacklevel=2)
+
+
+def check_ranges(model: BaseModel, rules: Sequence[Rule], doc: Document | None = None,
+                 file: str | None = None) -> None:
+    """Apply ``rules`` to a validated model (see :func:`check_data`)."""
+    check_data(model.model_dump(mode="python"), rules, doc, file)
 
 
 def check_scenario(scenario: BaseModel, doc: Document | None = None) -> None:

@@ -19,6 +19,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from stackopt.errors import InputError, did_you_mean
+from stackopt.inputs.sanity import STACKUP_RULES, check_data
 from stackopt.inputs.validate import validate_model
 from stackopt.inputs.yamlio import Document, load_yaml, parse_yaml_text
 from stackopt.model.mitigations import MITIGATIONS, mitigation_error
@@ -121,6 +122,10 @@ def parse_selected(doc: Document) -> SelectedStackup:
         if msg:
             raise doc.error(msg.split(";")[0], ["mitigations", k],
                             fix=f"use {', '.join(MITIGATIONS)}")
+    si = {"layers": [{"kind": "copper", "thickness": p.thickness} if isinstance(p, Copper)
+                     else {"kind": p.kind, "thickness": p.thickness, "dk": p.er, "df": p.df}
+                     for p in parts], "drill": drill_m}
+    check_data(si, STACKUP_RULES, doc)  # a 1 m dielectric or a 5 m drill is a unit slip
     return SelectedStackup(stackup, drill_m, vias, tuple(mits))
 
 

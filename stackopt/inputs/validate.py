@@ -86,6 +86,7 @@ def validate_model(model: type[M], doc: Document, prefix: Sequence[str | int] = 
         ctx_err = (err.get("ctx") or {}).get("error")
         if isinstance(ctx_err, StackoptError) and isinstance(ctx_err, InputError):
             msg, fix = ctx_err.message, ctx_err.fix
+            loc += ctx_err.key_parts  # a cross-field rule names the key below its model
         else:
             msg = err["msg"].removeprefix("Value error, ")
             fix = None

@@ -4,6 +4,7 @@ line and column remembered so that later validation errors can point at the file
 
 from __future__ import annotations
 
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -71,20 +72,28 @@ def _walk(loader: _Loader, node: yaml.Node, path: KeyPath, marks: dict, file: st
                          column=node.start_mark.column + 1,
                          fix="remove the '!' tag; write plain lists and 'key: value' entries")
     if isinstance(node, yaml.MappingNode):
+        # keys written here (not merged in with '<<: *anchor'): only these can clash
+        own = {id(k) for k, _ in node.value if k.tag != "tag:yaml.org,2002:merge"}
         loader.flatten_mapping(node)
         out: dict[Any, Any] = {}
+        written: set[Any] = set()
         for key_node, value_node in node.value:
-            key = loader.construct_object(key_node, deep=True)
+            key = _scalar(loader, key_node, path, file)
             if isinstance(key, list | dict):
                 raise InputError("a mapping key must be a plain word", file=file,
                                  key=list(path), line=key_node.start_mark.line + 1,
                                  column=key_node.start_mark.column + 1,
                                  fix="write 'name: value'")
-            if key in out:
-                raise InputError(f"duplicate key {key!r}", file=file, key=list(path) + [key],
-                                 line=key_node.start_mark.line + 1,
-                                 column=key_node.start_mark.column + 1,
-                                 fix="keep one of them; YAML would silently keep only the last")
+            if id(key_node) in own:
+                if key in written:
+                    raise InputError(f"duplicate key {key!r}", file=file,
+                                     key=list(path) + [key],
+                                     line=key_node.start_mark.line + 1,
+                                     column=key_node.start_mark.column + 1,
+                                     fix="keep one of them; YAML would silently keep only "
+                                     "the last")
+                written.add(key)
+                out.pop(key, None)  # a written key overrides a merged one (YAML merge)
             sub = path + (key if isinstance(key, int) else str(key),)
             marks[sub] = (key_node.start_mark.line + 1, key_node.start_mark.column + 1)
             out[key] = _walk(loader, value_node, sub, marks, file, budget)
@@ -92,7 +101,49 @@ def _walk(loader: _Loader, node: yaml.Node, path: KeyPath, marks: dict, file: st
     if isinstance(node, yaml.SequenceNode):
         return [_walk(loader, n, path + (i,), marks, file, budget)
                 for i, n in enumerate(node.value)]
-    return loader.construct_object(node, deep=True)
+    return _scalar(loader, node, path, file)
+
+
+#: Plain scalars YAML 1.1 reads as something other than the decimal number they look
+#: like: octal (0100 = 64), hex/binary, base 60 (1:30 = 90).
+_SURPRISE = re.compile(r"[-+]?(0[0-9_]+|0[oxb][0-9a-fA-F_]+|[0-9][0-9_]*(:[0-5]?[0-9])+"
+                       r"(\.[0-9_]*)?)")
+#: Longest number accepted in a file (digits); longer ones are not a board's values.
+MAX_DIGITS = 40
+
+
+def _scalar(loader: _Loader, node: yaml.Node, path: KeyPath, file: str) -> Any:
+    """A scalar's value, refusing YAML 1.1 surprises and over-long numbers."""
+    where = {"file": file, "key": list(path), "line": node.start_mark.line + 1,
+             "column": node.start_mark.column + 1}
+    text = node.value if isinstance(node, yaml.ScalarNode) else None
+    plain = isinstance(node, yaml.ScalarNode) and node.style is None
+    if plain and isinstance(text, str):
+        if node.tag in ("tag:yaml.org,2002:int", "tag:yaml.org,2002:float") and \
+                _SURPRISE.fullmatch(text):
+            body = text.lstrip("+-")
+            how = ("base 60" if ":" in body else "hex" if body[:2] in ("0x", "0X") else
+                   "binary" if body[:2] == "0b" else "octal")
+            meant = (text[0] * (text[0] in "+-") + body.lstrip("0_") if how == "octal"
+                     else "the decimal number you mean")
+            try:
+                got = f" {loader.construct_object(node)!r}"
+            except ValueError:
+                got = ""
+            raise InputError(f"{text} is read by YAML 1.1 as{got} ({how}), not the number "
+                             "it looks like", fix=f"write {meant}, or quote it: '{text}'",
+                             **where)
+        if sum(c.isdigit() for c in text) > MAX_DIGITS and node.tag in (
+                "tag:yaml.org,2002:int", "tag:yaml.org,2002:float"):
+            raise InputError(f"a number of {sum(c.isdigit() for c in text)} digits is "
+                             "too long", fix=f"write at most {MAX_DIGITS} digits (use an "
+                             "exponent, e.g. 1e6, and a unit)", **where)
+    try:
+        return loader.construct_object(node, deep=True)
+    except ValueError as exc:  # e.g. an integer beyond Python's digit limit
+        raise InputError(f"cannot read this value ({' '.join(str(exc).split())[:80]})",
+                         fix="write a plain number of a few digits with its unit",
+                         **where) from None
 
 
 def parse_yaml_text(text: str, file: str = "<text>") -> Document:

@@ -17,9 +17,10 @@ from typing import Annotated, Any, Literal
 
 from pydantic import BaseModel, Field, model_validator
 
-from stackopt.errors import did_you_mean
+from stackopt.errors import InputError, did_you_mean
 from stackopt.model.fields import (
     FROZEN,
+    Count,
     Decibel,
     Frequency,
     Impedance,
@@ -30,9 +31,10 @@ from stackopt.model.fields import (
     PositiveFloat,
     PositiveLength,
     Resistance,
+    unique_names,
 )
 from stackopt.physics.mounting import SIZE_CODES
-from stackopt.units import parse_quantity
+from stackopt.units import Dimension, format_quantity, parse_quantity
 
 __all__ = ["GROUND_NODE", "Mount", "Parasitics", "Element", "GroundGeometry", "Ground", "Coupling",
            "FilterSpec", "Circuit"]
@@ -42,7 +44,7 @@ GROUND_NODE = "gnd"
 
 Name = Annotated[str, Field(pattern=r"^[A-Za-z_][A-Za-z0-9_.+\-]*$", max_length=40)]
 ElementType = Literal["R", "L", "C"]
-_DIM = {"R": "impedance", "L": "inductance", "C": "capacitance"}
+_DIM: dict[str, Dimension] = {"R": "impedance", "L": "inductance", "C": "capacitance"}
 _EXAMPLE = {"R": "10 ohm", "L": "12 nH", "C": "3.9 pF"}
 
 
@@ -140,28 +142,36 @@ class Element(Parasitics):
     def _parse_value(cls, data: Any) -> Any:
         if isinstance(data, dict) and data.get("type") in _DIM and data.get("value") is not None:
             data = dict(data)
-            data["value"] = parse_quantity(data["value"], _DIM[data["type"]])  # type: ignore
+            data["value"] = parse_quantity(data["value"], _DIM[data["type"]])
         return data
 
     @model_validator(mode="after")
     def _check(self) -> Element:
         n, ex = self.name, _EXAMPLE[self.type]
         if self.value is None:
-            raise ValueError(f"element {n} has no value; add 'value: {ex}'")
+            raise InputError(f"element {n} has no value", key=["value"],
+                             fix=f"add 'value: {ex}'")
         if self.value < 0:
-            raise ValueError(f"element {n} has a negative value; give a positive one ({ex})")
+            dim = _DIM[self.type]
+            raise InputError(f"element {n} has a negative value "
+                             f"({format_quantity(self.value, dim)})", key=["value"],
+                             fix=f"write 'value: {format_quantity(-self.value, dim)}'")
         if self.type == "C" and self.value == 0:
-            raise ValueError(f"capacitor {n} is 0 F (an open circuit); remove it or give {ex}")
+            raise InputError(f"capacitor {n} is 0 F (an open circuit)", key=["value"],
+                             fix=f"remove it or give {ex}")
         if self.type == "R" and self.q is not None:
-            raise ValueError(f"resistor {n} cannot have 'q'; use 'esl' for its inductance")
+            raise InputError(f"resistor {n} cannot have 'q'", key=["q"],
+                             fix="use 'esl' for its inductance")
         if self.srf is not None and (self.type != "L" or not self.value):
-            raise ValueError(f"element {n}: 'srf' is for inductors with a value; remove it")
+            raise InputError(f"element {n}: 'srf' is for inductors with a value",
+                             key=["srf"], fix="remove it")
         if self.between[0] == self.between[1]:
-            raise ValueError(f"element {n} has both ends on node {self.between[0]!r}; "
-                             "connect it between two different nodes")
+            raise InputError(f"element {n} has both ends on node {self.between[0]!r}",
+                             key=["between"], fix="connect it between two different nodes")
         if self.ground is not None and GROUND_NODE not in self.between:
-            raise ValueError(f"element {n} names ground {self.ground!r} but neither end is "
-                             f"'{GROUND_NODE}'; write between: [{self.between[0]}, gnd]")
+            raise InputError(f"element {n} names ground {self.ground!r} but neither end is "
+                             f"'{GROUND_NODE}'", key=["ground"],
+                             fix=f"write between: [{self.between[0]}, gnd]")
         return self
 
     @property
@@ -177,7 +187,7 @@ class GroundGeometry(BaseModel):
     model_config = FROZEN
     trace_length: NonNegativeLength = 0.0
     trace_width: PositiveLength | None = None
-    vias: int | None = Field(None, ge=1, le=16)
+    vias: Count | None = Field(None, ge=1, le=16)
     pitch: PositiveLength | None = None
     drill: PositiveLength | None = None
 
@@ -228,7 +238,7 @@ class FilterSpec(BaseModel):
     model_config = FROZEN
     family: Literal["butterworth", "chebyshev", "elliptic"]
     response: Literal["lowpass", "highpass"] = "lowpass"
-    order: int = Field(ge=1, le=15)
+    order: Count = Field(ge=1, le=15)
     cutoff: Frequency
     ripple: Decibel | None = Field(None, description="Chebyshev/elliptic passband ripple, dB")
     stopband_attenuation: Decibel | None = Field(None, description="elliptic: minimum "
@@ -298,17 +308,9 @@ class Circuit(BaseModel):
         return self
 
 
-def _unique(names: list[str], what: str) -> None:
-    seen: set[str] = set()
-    for n in names:
-        if n in seen:
-            raise ValueError(f"two {what} are named {n!r}; give each a unique name")
-        seen.add(n)
-
-
 def _check_names(c: Circuit) -> None:
-    _unique([e.name for e in c.elements], "elements")
-    _unique([g.name for g in c.grounds], "grounds")
+    unique_names([e.name for e in c.elements], "elements", "elements")
+    unique_names([g.name for g in c.grounds], "grounds", "grounds")
     gnames = [g.name for g in c.grounds]
     used = set()
     for e in c.elements:
@@ -383,3 +385,15 @@ def _check_topology(c: Circuit) -> None:
                 raise ValueError(f"element {e.name} closes a loop of zero-ohm links (singular "
                                  "circuit); give it a value or remove it")
             zero[a] = b
+    short = {n: n for n in nodes}  # zero-ohm links with no ground connection's inductance
+    for e in c.elements:
+        if e.zero_impedance and e.ground is None:
+            short[_find(short, e.between[0])] = _find(short, e.between[1])
+    for port, n in (("input", c.input), ("output", c.output)):
+        if _find(short, n) == _find(short, GROUND_NODE):
+            links = [e.name for e in c.elements if e.zero_impedance and e.ground is None]
+            raise InputError(f"the {port} port {n!r} is shorted to ground by zero-ohm "
+                             f"links ({', '.join(links)}); the circuit would pass nothing "
+                             "and every margin would be meaningless", key=[port],
+                             fix="give the link its real value (e.g. 'value: 10 ohm') or "
+                             "connect it between other nodes")

@@ -77,6 +77,9 @@ def check(constructions: Sequence[Construction], kinds_by_id: dict[str, str],
                 return (f"construction {c.name!r}: dielectric {k + 1} must be a {want} "
                         f"(foil lamination), not {kind} {mid!r}", [*where, "dielectrics", k],
                         "outer dielectrics are prepreg, inner ones alternate core / prepreg")
+            if plies < 1:
+                return (f"construction {c.name!r}: {entry!r} has no plies",
+                        [*where, "dielectrics", k], f"write '{mid}' or '{mid} x2'")
             if kind == "core" and plies != 1:
                 return (f"construction {c.name!r}: a core has no plies ({entry!r})",
                         [*where, "dielectrics", k], f"write '{mid}'")

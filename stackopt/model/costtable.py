@@ -19,7 +19,7 @@ from pydantic import AfterValidator, BaseModel, Field, field_validator, model_va
 from stackopt.errors import InputError
 from stackopt.model import construction as _construction
 from stackopt.model.construction import Construction
-from stackopt.model.fields import FROZEN, NonNegativeLength, PositiveFloat, PositiveLength
+from stackopt.model.fields import FROZEN, Count, NonNegativeLength, PositiveFloat, PositiveLength
 
 __all__ = [
     "TableRuleError", "Price", "Panel", "BasePrice", "Prepreg", "Core", "Materials",
@@ -358,7 +358,7 @@ class BoardOrder(BaseModel):
     model_config = FROZEN
     width: PositiveLength
     height: PositiveLength
-    quantity: int = Field(ge=1)
+    quantity: Count = Field(ge=1)
 
     @property
     def area(self) -> float:

@@ -12,10 +12,12 @@ Use them in frozen models (``model_config = FROZEN``):
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from typing import Annotated
 
 from pydantic import AfterValidator, BeforeValidator, ConfigDict
 
+from stackopt.errors import InputError
 from stackopt.units import Dimension, parse_quantity
 
 #: Config for every input model: immutable, unknown keys are errors, no silent coercion
@@ -40,6 +42,37 @@ def _non_negative(x: float) -> float:
     if x < 0:
         raise ValueError(f"must not be negative, got {x:g} (SI)")
     return x
+
+
+def _whole(v: object) -> object:
+    if isinstance(v, bool):
+        raise ValueError(f"expected a whole number, got {str(v).lower()} (YAML reads "
+                         "true/false/yes/no/on/off as a yes-or-no value)")
+    if isinstance(v, float) and not v.is_integer():
+        raise ValueError(f"expected a whole number, got {v:g}")
+    return v
+
+
+#: A whole number (a count, a quantity, a seed): never a yes/no value, never a fraction.
+Count = Annotated[int, BeforeValidator(_whole)]
+
+def unique_names(names: Sequence[str | None], what: str, key: str) -> None:
+    """Refuse two entries of one list with the same name (outputs are keyed by name: a
+    second one would silently take the first one's results).
+
+    Raises
+    ------
+    InputError
+        Naming the second entry's key path (``lines[1].name``), the name and the first.
+    """
+    first: dict[str, int] = {}
+    for i, n in enumerate(names):
+        if n is None:
+            continue
+        if n in first:
+            raise InputError(f"{what} {first[n] + 1} and {i + 1} are both named {n!r}",
+                             key=[key, i, "name"], fix="give each a unique name")
+        first[n] = i
 
 
 Length = Annotated[float, _parser("length")]

@@ -10,21 +10,24 @@ from typing import Literal
 
 from pydantic import BaseModel, Field, field_validator, model_validator
 
-from stackopt.errors import did_you_mean
+from stackopt.errors import InputError, did_you_mean
 from stackopt.model.calibration import CalibrationRef
 from stackopt.model.circuit import Circuit
 from stackopt.model.fields import (
     FROZEN,
+    Count,
     Decibel,
     Frequency,
     Impedance,
     NonNegativeFloat,
     NonNegativeLength,
     PositiveLength,
+    unique_names,
 )
 from stackopt.model.mitigations import MITIGATIONS, mitigation_error
 from stackopt.physics.inductance import DEFAULT_VIA_MODEL, VIA_MODELS
 from stackopt.physics.linetypes import PAIR_TYPES, STRIPLINE_TYPES, LineType
+from stackopt.plausible import SEED_MAX
 
 __all__ = [
     "Board",
@@ -84,8 +87,8 @@ class Board(BaseModel):
     model_config = FROZEN
     width: PositiveLength
     height: PositiveLength
-    quantity: int = Field(gt=0, le=MAX_QUANTITY)
-    quantities: tuple[int, ...] | None = None
+    quantity: Count = Field(gt=0, le=MAX_QUANTITY)
+    quantities: tuple[Count, ...] | None = None
 
     @field_validator("quantities", mode="before")
     @classmethod
@@ -102,7 +105,7 @@ class Requirement(BaseModel):
     frequency: Frequency | None = None
     band: tuple[Frequency, Frequency] | None = None
     min_attenuation: Decibel
-    points: int = Field(21, ge=2, le=401, description="frequencies sampled across a band")
+    points: Count = Field(21, ge=2, le=401, description="frequencies sampled across a band")
 
     @model_validator(mode="after")
     def _one_of(self) -> Requirement:
@@ -210,6 +213,10 @@ class SolderMask(BaseModel):
     er: float = Field(3.5, ge=1.0, le=20.0, description="relative permittivity")
 
 
+def _mm(x: float) -> str:
+    return f"{x * 1e3:g} mm"
+
+
 class ThicknessWindow(BaseModel):
     """Allowed finished thickness: ``nominal`` ± ``tolerance`` (fraction), or min/max."""
 
@@ -221,13 +228,25 @@ class ThicknessWindow(BaseModel):
 
     @model_validator(mode="after")
     def _check(self) -> ThicknessWindow:
-        if self.nominal is None and (self.min is None or self.max is None):
+        both = self.min is not None and self.max is not None
+        if self.nominal is None and not both:
             raise ValueError("give 'nominal' (with 'tolerance') or both 'min' and 'max'")
-        lo, hi = self.bounds
-        if not 0 < lo < hi:
-            raise ValueError("thickness window is empty; min must be below max")
+        if self.nominal is not None and (self.min is not None or self.max is not None):
+            raise InputError(f"both 'nominal: {_mm(self.nominal)}' and 'min'/'max' are "
+                             "given; one of them would be ignored", key=["nominal"],
+                             fix="keep 'nominal' with 'tolerance', or 'min' and 'max'")
         if self.tolerance >= 1:
-            raise ValueError("tolerance is a fraction, e.g. '10 %' or 0.1")
+            t = self.tolerance
+            said = (f"tolerance {t:g} is read as {t * 100:g} %" if t >= 2
+                    else f"tolerance {t * 100:g} %")
+            hint = f"; did you mean '{t:g} %'?" if t >= 2 else ""
+            raise InputError(f"{said}, which would reach zero thickness{hint}",
+                             key=["tolerance"],
+                             fix="give a fraction below 100 %, e.g. '10 %' or 0.1")
+        lo, hi = self.bounds
+        if both and not lo < hi:
+            raise InputError(f"the window min {_mm(lo)} .. max {_mm(hi)} is empty",
+                             key=["min"], fix="make 'min' smaller than 'max' (swapped?)")
         return self
 
     @property
@@ -243,13 +262,14 @@ class SpaceSpec(BaseModel):
     """What the search may vary (intersected with what the fab's table offers)."""
 
     model_config = FROZEN
-    layers: tuple[int, ...] = (2, 4, 6)
+    layers: tuple[Count, ...] = (2, 4, 6)
     thickness: ThicknessWindow | None = None
     symmetric: bool = True
     copper: tuple[PositiveLength, ...] = (34.3e-6,)
     drills: tuple[PositiveLength, ...] = (0.3e-3,)
-    vias_per_ground: tuple[int, ...] = (1,)
-    max_plies: int = Field(default=3, ge=1, le=4, description="prepreg plies per opening, at most")
+    vias_per_ground: tuple[Count, ...] = (1,)
+    max_plies: Count = Field(default=3, ge=1, le=4,
+                             description="prepreg plies per opening, at most")
     mitigations: tuple[str, ...] = Field(default=(), description="names in "
                                          ":data:`stackopt.model.mitigations.MITIGATIONS`")
     constructions: Literal["any", "standard"] = Field(
@@ -333,8 +353,8 @@ class SearchSpec(BaseModel):
     at: Frequency | None = Field(default=None, description="frequency for objective 'attenuation'")
     third_objective: Literal["lead_time"] | None = None
     method: Literal["auto", "exact", "nsga2"] = "auto"
-    budget: int = Field(default=20_000, ge=100, le=10_000_000)
-    seed: int = Field(default=1, ge=0, le=2**32 - 1)
+    budget: Count = Field(default=20_000, ge=100, le=10_000_000)
+    seed: Count = Field(default=1, ge=0, le=SEED_MAX)
     via_model: str = Field(default=DEFAULT_VIA_MODEL, description="a key of "
                            ":data:`stackopt.physics.inductance.VIA_MODELS`")
     calibration: str | CalibrationRef | None = Field(
@@ -398,6 +418,8 @@ class Scenario(BaseModel):
     def _check(self) -> Scenario:
         if self.search.objective == "margin" and not self.requirements:
             raise ValueError("objective 'margin' needs at least one entry in 'requirements'")
+        unique_names([r.name for r in self.requirements], "requirements", "requirements")
+        unique_names([ln.name for ln in self.lines], "lines", "lines")
         for attr in ("label", "key"):
             names = [getattr(r, attr) for r in self.requirements]
             if len(set(names)) != len(names):

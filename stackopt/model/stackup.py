@@ -14,7 +14,7 @@ from typing import Literal
 import numpy as np
 from pydantic import BaseModel, Field, model_validator
 
-from stackopt.model.fields import FROZEN, PositiveFloat, PositiveLength
+from stackopt.model.fields import FROZEN, Count, PositiveFloat, PositiveLength
 from stackopt.model.geometry import PLANE_ROLES, LayerStack
 
 #: Copper roles (the same list as :data:`stackopt.model.geometry.ROLES`; a test keeps them equal).
@@ -53,7 +53,7 @@ class Dielectric(BaseModel):
     thickness: PositiveLength = Field(description="pressed thickness, m")
     er: PositiveFloat = Field(description="relative permittivity (Dk) near 1 GHz")
     df: float = Field(default=0.02, ge=0.0, lt=1.0, description="loss tangent (Df)")
-    plies: int = Field(default=1, ge=1, le=6)
+    plies: Count = Field(default=1, ge=1, le=6)
 
     @model_validator(mode="after")
     def _ranges(self) -> Dielectric:

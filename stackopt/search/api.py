@@ -2,14 +2,16 @@
 
 from __future__ import annotations
 
+import warnings
 from collections.abc import Callable
 from pathlib import Path
 from typing import Literal
 
-from stackopt.errors import InputError
+from stackopt.errors import InputError, StackoptWarning
 from stackopt.model.costtable import CostTable
 from stackopt.model.scenario import Scenario
 from stackopt.search.exact import exact_candidates, exact_cost
+from stackopt.search.feasibility import empty_space_message, fab_findings
 from stackopt.search.memo import ResponseMemo
 from stackopt.search.problem import Problem
 from stackopt.search.results import Result
@@ -97,11 +99,13 @@ def optimize(
     if method not in ("auto", "exact", "nsga2"):
         raise InputError(f"unknown method {method!r}", key="method",
                          fix="use auto, exact or nsga2")
+    for f in fab_findings(scenario, cost_table):
+        if f.level == "warning":  # part of the space dropped: say so, never silently
+            warnings.warn(StackoptWarning(f.message, key=f.key, fix=f.fix), stacklevel=2)
     problem = Problem(scenario, cost_table, memo=memo)
     if not problem.space.arrangements or not problem.space.drills:
-        raise InputError("the design space is empty: no layer count or drill of the scenario "
-                         "is offered by the fab", key="space",
-                         fix="allow layer counts and drills that the cost table prices")
+        message, key, fix = empty_space_message(scenario, cost_table)
+        raise InputError(message, key=key, fix=fix)
     cost = exact_cost(problem)
     if problem.space.constructions:
         if method == "nsga2":

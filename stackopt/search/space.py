@@ -374,11 +374,15 @@ def _resolve(constructions, catalogue: dict[str, DielectricOptions],
             o = catalogue[kind]
             hit = np.flatnonzero((o.material == material_names.index(mid)) & (o.count == plies))
             if not len(hit):
+                many = kind == "prepreg" and plies > int(o.count.max(initial=0))
+                why = (f"{plies} plies, more than space.max_plies allows" if many else
+                       "thinner than the fab's minimum dielectric")
                 raise InputError(
                     f"construction {c.name!r} uses {entry!r}, which the search cannot build "
-                    "(more plies than space.max_plies, or thinner than the fab's minimum "
-                    "dielectric)", key="space.constructions",
-                    fix="raise space.max_plies or correct the construction in the cost table")
+                    f"({why})", key="space.max_plies" if many else "space.constructions",
+                    fix=f"raise space.max_plies to {plies}" if many else
+                    "correct the construction or capabilities.min_dielectric in the cost "
+                    "table")
             idx.append(int(hit[0]))
         out.append((c.name, c.layers, tuple(idx)))
     return tuple(out)
