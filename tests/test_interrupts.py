@@ -209,3 +209,29 @@ def test_force_rerun_four_layer_only_drops_the_ladder_files(tmp_path):
 
     assert json.loads((out / "summary.json").read_text())["mitigation_ladder"] is None
     assert _leftovers(tmp_path) == []
+
+
+def test_out_that_holds_the_working_folder_is_refused(tmp_path, monkeypatch):
+    from stackopt.errors import OutputError
+    from stackopt.outputs.resultdir import check_out_dir
+
+    (tmp_path / "w").mkdir()
+    monkeypatch.chdir(tmp_path / "w")
+    for out in (".", str(tmp_path)):
+        with pytest.raises(OutputError, match="current folder"):
+            check_out_dir(out, force=True)
+    assert check_out_dir("results") == tmp_path / "w" / "results"
+
+
+def test_force_refuses_a_large_foreign_tree(tmp_path, monkeypatch):
+    from stackopt.errors import OutputError
+    from stackopt.outputs import resultdir
+
+    monkeypatch.setattr(resultdir, "MAX_FOREIGN", 5)
+    out = tmp_path / "proj"
+    out.mkdir()
+    for k in range(30):  # more than 5 beyond the 15 names earlier versions wrote
+        (out / f"src{k}.c").write_text("x")
+    with pytest.raises(OutputError, match="more than 5 files"):
+        write_result(out, {"a.txt": b"1"}, force=True)
+    assert len(list(out.iterdir())) == 30 and not (out / "a.txt").exists()

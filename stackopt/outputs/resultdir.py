@@ -154,6 +154,11 @@ def check_out_dir(path: str | Path, force: bool = False) -> Path:
                           f"{_MAX_NAME} bytes); choose a shorter name")
     if p.parent == p:
         raise OutputError(f"--out {p} is the root folder; choose a folder inside it")
+    here = Path.cwd().resolve()
+    if here == p.resolve() or p.resolve() in here.parents:
+        raise OutputError(f"--out {shown} is the current folder or holds it; a result "
+                          "replaces its folder as a whole: choose a sub-folder, e.g. "
+                          "--out results")
     p = p.parent.resolve() / p.name if p.parent.exists() else p
     if p.is_symlink() and p.resolve().is_dir():
         p = p.resolve()
@@ -169,6 +174,8 @@ def check_out_dir(path: str | Path, force: bool = False) -> Path:
         if non_empty and not force:
             raise OutputError(f"{p}: output folder is not empty; use --force to replace "
                               "the earlier stackopt result or choose another --out")
+        if non_empty:
+            _refuse_foreign_tree(p)
     base = p.parent
     while not base.exists():
         base = base.parent
@@ -176,6 +183,25 @@ def check_out_dir(path: str | Path, force: bool = False) -> Path:
         raise OutputError(f"{p}: cannot create the output folder here ({base} is not a "
                           "writable folder); choose another --out")
     return p
+
+
+#: Most entries stackopt did not write that a --force run carries over (hard links):
+#: more means --out names a working folder, not a results folder.
+MAX_FOREIGN = 500
+
+
+def _refuse_foreign_tree(out: Path) -> None:
+    """Refuse to replace a folder that holds a large tree stackopt did not write (a
+    project or home folder given as --out by mistake)."""
+    known = _manifest(out)
+    ours = known[0] if known is not None else set(LEGACY)
+    count = 0
+    for _root, dirs, names in os.walk(out):
+        count += len(dirs) + len(names)
+        if count > MAX_FOREIGN + len(ours):
+            raise OutputError(f"{out}: holds more than {MAX_FOREIGN} files stackopt did not "
+                              "write; a result replaces its folder as a whole: choose a "
+                              "folder for the results alone")
 
 
 def _check_names(files: Mapping[str, bytes]) -> None:
