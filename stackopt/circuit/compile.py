@@ -20,7 +20,7 @@ capacitor ``<name>.srf`` in parallel with it.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -28,13 +28,19 @@ from stackopt.circuit.filters import filter_circuit
 from stackopt.errors import InputError
 from stackopt.model.circuit import GROUND_NODE, Circuit, Element
 
-__all__ = ["CompiledCircuit", "LadderStage", "compile_circuit"]
+__all__ = ["CompiledCircuit", "LadderStage", "compile_circuit", "without_interconnect"]
 
 
 def _frozen(a: np.ndarray) -> np.ndarray:
     a = np.ascontiguousarray(a)
     a.setflags(write=False)
     return a
+
+
+_EMPTY = np.zeros(0)
+_EMPTY.setflags(write=False)
+_EMPTY_INT = np.zeros(0, dtype=int)
+_EMPTY_INT.setflags(write=False)
 
 
 @dataclass(frozen=True)
@@ -74,6 +80,11 @@ class CompiledCircuit:
     conn_drill: np.ndarray  # (C,) m, nan = from the candidate
     conn_offsets: tuple[np.ndarray | None, ...]  # explicit via offsets (n, 2) or None
     ladder: tuple[LadderStage, ...] | None  # stages from port 1 to port 2, or None
+    # interconnect lines (T,): node of each end, length [m], width [m] (nan: z0 width)
+    line_a: np.ndarray = field(default_factory=lambda: _EMPTY_INT)
+    line_b: np.ndarray = field(default_factory=lambda: _EMPTY_INT)
+    line_length: np.ndarray = field(default_factory=lambda: _EMPTY)
+    line_width: np.ndarray = field(default_factory=lambda: _EMPTY)
 
     @property
     def n_elements(self) -> int:
@@ -190,7 +201,9 @@ def compile_circuit(spec: Circuit) -> CompiledCircuit:
         except ValueError as exc:
             raise InputError(str(exc), key="circuit.filter") from None
     spec = _with_self_resonance(spec)
-    nodes = [spec.input] + [n for e in spec.elements for n in e.between]
+    lines = spec.interconnect
+    nodes = ([spec.input] + [n for e in spec.elements for n in e.between]
+             + [n for ln in lines for n in ln.between])
     names = tuple(dict.fromkeys(n for n in nodes if n != GROUND_NODE))
     idx = {n: i for i, n in enumerate(names)}
     idx[GROUND_NODE] = -1
@@ -242,5 +255,27 @@ def compile_circuit(spec: Circuit) -> CompiledCircuit:
         conn_drill=_frozen(np.array([g.drill or nan for g in gr], dtype=float)),
         conn_offsets=tuple(_frozen(np.array(g.vias_at, dtype=float)) if g.vias_at else None
                            for g in gr),
-        ladder=_ladder(a, b, zero, ports, bool(spec.couplings), len(names)),
+        ladder=None if lines else _ladder(a, b, zero, ports, bool(spec.couplings),
+                                          len(names)),
+        line_a=_frozen(np.array([idx[ln.between[0]] for ln in lines], dtype=int)),
+        line_b=_frozen(np.array([idx[ln.between[1]] for ln in lines], dtype=int)),
+        line_length=_frozen(np.array([ln.length for ln in lines], dtype=float)),
+        line_width=_frozen(np.array([ln.width or nan for ln in lines], dtype=float)),
     )
+
+
+def without_interconnect(spec: Circuit) -> Circuit:
+    """The circuit (a generated filter expanded) with every interconnect line shorted:
+    each line's second node is merged into its first."""
+    if spec.filter is not None:
+        spec = filter_circuit(spec.filter, spec.z0, spec.input, spec.output)
+    merge = {ln.between[1]: ln.between[0] for ln in spec.interconnect}
+
+    def root(n: str) -> str:
+        while n in merge:
+            n = merge[n]
+        return n
+    els = tuple(e.model_copy(update={"between": (root(e.between[0]), root(e.between[1]))})
+                for e in spec.elements)
+    return spec.model_copy(update={"elements": els, "interconnect": (),
+                                   "input": root(spec.input), "output": root(spec.output)})

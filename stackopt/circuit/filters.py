@@ -19,7 +19,15 @@ import math
 import numpy as np
 
 from stackopt.circuit.elliptic import elliptic_prototype
-from stackopt.model.circuit import GROUND_NODE, Circuit, Coupling, Element, FilterSpec, Ground
+from stackopt.model.circuit import (
+    GROUND_NODE,
+    Circuit,
+    Coupling,
+    Element,
+    FilterSpec,
+    Ground,
+    Interconnect,
+)
 
 __all__ = ["butterworth_g", "chebyshev_g", "prototype_g", "filter_circuit"]
 
@@ -217,9 +225,27 @@ def _elliptic_circuit(spec: FilterSpec, z0: float, input: str, output: str) -> C
 
 def _with_coupling(spec: FilterSpec, c: Circuit) -> Circuit:
     """``spec.coupling`` as the magnetic coupling k between neighbouring generated
-    inductors (consecutive in element order)."""
+    inductors (consecutive in element order), and ``spec.interconnect`` as one line at the
+    input end of every series branch (its elements move to a node ``<node>.w``)."""
+    if spec.interconnect is not None:
+        c = _with_lines(spec, c)
     if not spec.coupling:
         return c
     ls = [e.name for e in c.elements if e.type == "L"]
     cps = [Coupling(between=(a, b), k=spec.coupling) for a, b in zip(ls, ls[1:], strict=False)]
     return c.model_copy(update={"couplings": tuple(cps)}) if cps else c
+
+
+def _with_lines(spec: FilterSpec, c: Circuit) -> Circuit:
+    tpl = spec.interconnect
+    pairs: list[tuple[str, str]] = []
+    for e in c.elements:  # series branches in generation order
+        if GROUND_NODE not in e.between and e.between not in pairs:
+            pairs.append(e.between)
+    new = {p: f"{p[0]}.w{k + 1}" for k, p in enumerate(pairs)}
+    els = tuple(e.model_copy(update={"between": (new[e.between], e.between[1])})
+                if e.between in new else e for e in c.elements)
+    lines = tuple(Interconnect(between=(p[0], w), length=tpl.length, width=tpl.width)
+                  for p, w in new.items())  # type: ignore[union-attr]
+    return Circuit(z0=c.z0, input=c.input, output=c.output, elements=els,
+                   grounds=c.grounds, couplings=c.couplings, interconnect=lines)

@@ -93,6 +93,10 @@ class GroundBatch:
     via_scale : factor on the via model's self and mutual inductances, > 0; default 1.
         A calibration file's factor for the model in use (``stackopt fit``); the pad
         traces are not scaled (the coupons measure vias).
+    line_height : dielectric height under the top-layer interconnect lines [m], > 0;
+        default ``height``
+    line_er : relative permittivity of that dielectric, >= 1; default 1 (only used by
+        circuits with ``interconnect``; give it then)
     """
 
     height: np.ndarray
@@ -104,22 +108,27 @@ class GroundBatch:
     coplanar: np.ndarray | None = None
     pour_gap: np.ndarray | None = None
     via_scale: np.ndarray | None = None
+    line_height: np.ndarray | None = None
+    line_er: np.ndarray | None = None
 
     def __post_init__(self) -> None:
         kinds = {"vias": int, "via_in_pad": bool, "own_vias": bool, "coplanar": bool}
         n = np.shape(self.height)
-        defaults = {"coplanar": False, "pour_gap": DEFAULT_POUR_GAP, "via_scale": 1.0}
+        defaults = {"coplanar": False, "pour_gap": DEFAULT_POUR_GAP, "via_scale": 1.0,
+                    "line_er": 1.0}
         arrs: dict[str, np.ndarray] = {}
         for f in fields(self):
             v = getattr(self, f.name)
             if v is None:
-                v = np.full(n, defaults[f.name])
+                v = (np.array(self.height, dtype=float) if f.name == "line_height"
+                     else np.full(n, defaults[f.name]))
             arrs[f.name] = np.asarray(v, dtype=kinds.get(f.name, float))
         shapes = {a.shape for a in arrs.values()}
         if len(shapes) != 1 or len(next(iter(shapes))) != 1:
             raise InputError(f"GroundBatch arrays must be 1-D of one length, got {shapes}",
                              fix="use GroundBatch.broadcast(...) for scalars")
-        for name in ("height", "drill", "copper", "pour_gap", "via_scale"):
+        for name in ("height", "drill", "copper", "pour_gap", "via_scale", "line_height",
+                     "line_er"):
             if not np.all(np.isfinite(arrs[name]) & (arrs[name] > 0)):
                 raise InputError(f"GroundBatch.{name} must be finite and > 0",
                                  fix="give SI metres")
@@ -133,12 +142,15 @@ class GroundBatch:
     def broadcast(cls, height: ArrayLike, drill: ArrayLike = 0.3e-3, vias: ArrayLike = 1,
                   via_in_pad: ArrayLike = False, own_vias: ArrayLike = False,
                   copper: ArrayLike = 35e-6, coplanar: ArrayLike = False,
-                  pour_gap: ArrayLike = DEFAULT_POUR_GAP, via_scale: ArrayLike = 1.0
+                  pour_gap: ArrayLike = DEFAULT_POUR_GAP, via_scale: ArrayLike = 1.0,
+                  line_height: ArrayLike | None = None, line_er: ArrayLike = 1.0
                   ) -> GroundBatch:
         """Build a batch from scalars or arrays, broadcast to one length N."""
         arrs = np.broadcast_arrays(*(np.atleast_1d(x) for x in
                                      (height, drill, vias, via_in_pad, own_vias, copper,
-                                      coplanar, pour_gap, via_scale)))
+                                      coplanar, pour_gap, via_scale,
+                                      height if line_height is None else line_height,
+                                      line_er)))
         return cls(*(np.array(a) for a in arrs))
 
     @property

@@ -201,8 +201,18 @@ def _reduced(base: np.ndarray, rhs: np.ndarray, term: np.ndarray, jw: np.ndarray
     return out
 
 
+def _with_lines(c: CompiledCircuit, base: np.ndarray, ylines: np.ndarray) -> np.ndarray:
+    """``base`` (F, n, n) plus every candidate's line admittances: (N, F, n, n)."""
+    out = np.repeat(base[None], ylines.shape[0], axis=0)
+    for t, (a, b) in enumerate(zip(c.line_a, c.line_b, strict=True)):  # a few lines
+        for i, p in enumerate((a, b)):
+            for j, q in enumerate((a, b)):
+                out[:, :, p, q] += ylines[:, :, t, i, j]
+    return out
+
+
 def mna_s(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray | None, *,
-          reduce: bool = True) -> np.ndarray:
+          reduce: bool = True, ylines: np.ndarray | None = None) -> np.ndarray:
     """S-parameters (N, F, 2, 2) by nodal analysis; ``lg`` (N, G, G) [H] or None (ideal).
 
     ``reduce`` (default) reduces, per frequency, the fixed network to its ground
@@ -215,7 +225,9 @@ def mna_s(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray | None, *
     jw = 2j * np.pi * f
     base, rhs, term = _assemble(c, f, lg is not None)
     ports = list(c.ports)
-    if lg is None or not reduce or lg.shape[0] < MIN_REDUCE:
+    if ylines is not None:  # candidate-dependent lines: every whole matrix
+        out = _full(_with_lines(c, base, ylines), rhs, term, jw, lg, ports)
+    elif lg is None or not reduce or lg.shape[0] < MIN_REDUCE:
         out = _full(base, rhs, term, jw, lg, ports)
     else:
         ok = _conditioned(base)
@@ -284,6 +296,16 @@ def solve(compiled: CompiledCircuit, freqs: np.ndarray, batch: GroundBatch | Non
     f = _check_freqs(freqs)
     if lg is None and batch is not None:
         lg = ground_inductance_matrix(compiled, batch, model, mutual=mutual)
+    if len(compiled.line_length):
+        if batch is None:
+            raise InputError("interconnect lines need a candidate stackup", key="batch",
+                             fix="pass a GroundBatch, or compile without_interconnect(...)")
+        from stackopt.circuit.interconnect import line_admittance
+
+        if method == "ladder":
+            raise InputError("the ABCD fast path does not take interconnect lines",
+                             key="method", fix="use method 'auto' or 'mna'")
+        return mna_s(compiled, f, lg, ylines=line_admittance(compiled, batch, f))
     g = compiled.n_terminals
     uncoupled = lg is None or not np.any(lg[:, ~np.eye(g, dtype=bool)])
     ladder_ok = compiled.ladder is not None and uncoupled

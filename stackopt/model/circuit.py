@@ -36,7 +36,8 @@ from stackopt.model.fields import (
 from stackopt.physics.mounting import SIZE_CODES
 from stackopt.units import Dimension, format_quantity, parse_quantity
 
-__all__ = ["GROUND_NODE", "Mount", "Parasitics", "Element", "GroundGeometry", "Ground", "Coupling",
+__all__ = ["GROUND_NODE", "Mount", "Parasitics", "Element", "Interconnect",
+           "InterconnectTemplate", "GroundGeometry", "Ground", "Coupling",
            "FilterSpec", "Circuit"]
 
 #: The reserved name of the reference (ground) node.
@@ -224,6 +225,26 @@ class Ground(GroundGeometry):
         return self
 
 
+class Interconnect(BaseModel):
+    """A trace between two nodes on the candidate's top layer: a microstrip over its plane
+    (per candidate: Hammerstad–Jensen impedance and effective permittivity). ``width``
+    absent: the width giving the circuit's ``z0`` on that candidate."""
+
+    model_config = FROZEN
+    between: tuple[Name, Name]
+    length: PositiveLength
+    width: PositiveLength | None = None
+
+
+class InterconnectTemplate(BaseModel):
+    """The filter generator's interconnect: one line of ``length`` at the input end of every
+    series branch (``width`` absent: the ``z0`` width of each candidate)."""
+
+    model_config = FROZEN
+    length: PositiveLength
+    width: PositiveLength | None = None
+
+
 class Coupling(BaseModel):
     """Magnetic coupling coefficient k between two inductors (M = k sqrt(L1 L2))."""
 
@@ -251,6 +272,7 @@ class FilterSpec(BaseModel):
     inductor: Parasitics = Parasitics()
     coupling: float = Field(0.0, gt=-0.5, lt=0.5, description="magnetic coupling k "
                             "between neighbouring generated inductors")
+    interconnect: InterconnectTemplate | None = None
 
     @model_validator(mode="after")
     def _family(self) -> FilterSpec:
@@ -290,6 +312,7 @@ class Circuit(BaseModel):
     elements: tuple[Element, ...] = ()
     grounds: tuple[Ground, ...] = ()
     couplings: tuple[Coupling, ...] = ()
+    interconnect: tuple[Interconnect, ...] = ()
     filter: FilterSpec | None = None
 
     @model_validator(mode="after")
@@ -297,7 +320,7 @@ class Circuit(BaseModel):
         if GROUND_NODE in (self.input, self.output):
             raise ValueError(f"a port cannot be the '{GROUND_NODE}' node; name a circuit node")
         if self.filter is not None:
-            if self.elements or self.grounds or self.couplings:
+            if self.elements or self.grounds or self.couplings or self.interconnect:
                 raise ValueError("give either 'filter' or 'elements' (with 'grounds', "
                                  "'couplings'), not both")
             return self
@@ -355,9 +378,14 @@ def _find(parent: dict[str, str], x: str) -> str:
 
 def _check_topology(c: Circuit) -> None:
     nodes: dict[str, list[str]] = {GROUND_NODE: []}
-    for e in c.elements:
-        for n in e.between:
-            nodes.setdefault(n, []).append(e.name)
+    edges = [(e.name, e.between) for e in c.elements] + [
+        (f"interconnect {ln.between[0]}-{ln.between[1]}", ln.between) for ln in c.interconnect]
+    for name, between in edges:
+        if GROUND_NODE in between and name.startswith("interconnect"):
+            raise ValueError(f"{name}: a line runs between two circuit nodes, not to "
+                             f"'{GROUND_NODE}' (its return is the plane); name two nodes")
+        for n in between:
+            nodes.setdefault(n, []).append(name)
     for port, n in (("input", c.input), ("output", c.output)):
         if n not in nodes:
             raise ValueError(f"{port} node {n!r} is not an end of any element"
@@ -368,8 +396,7 @@ def _check_topology(c: Circuit) -> None:
             raise ValueError(f"node {n!r} is connected only by {touching[0]}{hint}; connect "
                              "its other end or remove it")
     parent = {n: n for n in nodes}
-    for a, b in [e.between for e in c.elements] + [(c.input, GROUND_NODE),
-                                                    (c.output, GROUND_NODE)]:
+    for a, b in [b for _, b in edges] + [(c.input, GROUND_NODE), (c.output, GROUND_NODE)]:
         parent[_find(parent, a)] = _find(parent, b)
     root = _find(parent, GROUND_NODE)
     for n, touching in nodes.items():

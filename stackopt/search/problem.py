@@ -189,7 +189,15 @@ class Problem:
                            own_vias=g.flags.get("own_vias", off), copper=g.copper,
                            coplanar=g.flags.get("coplanar", off),
                            pour_gap=np.full(n, self.pour_gap),
-                           via_scale=np.full(n, search.via_scale(model or search.via_model)))
+                           via_scale=np.full(n, search.via_scale(model or search.via_model)),
+                           **self._line_fields(g))
+
+    def _line_fields(self, g: Geometry) -> dict[str, np.ndarray]:
+        """The top layer's dielectric under interconnect lines, only when the circuit has
+        lines (otherwise the defaults keep the phenotype key unchanged)."""
+        if not len(self.compiled.line_length):
+            return {}
+        return {"line_height": g.trace_height, "line_er": g.trace_er}
 
     def line_batch(self, g: Geometry, line: int) -> LineBatch:
         """What the width synthesis of scenario line ``line`` receives for a batch: the
