@@ -96,7 +96,7 @@ def test_first_screen_answers_the_question(demo_result):
     head = md[:md.index("pareto.png")]
     ev = demo_result.evaluation
     p = demo_result.picks
-    d = ev.unit_cost[p["cheapest_meeting_requirements"]] - ev.unit_cost[p["best_two_layer"]]
+    d = ev.unit_cost[p["cheapest_meeting_requirements"]] - ev.unit_cost[p["cheapest_two_layer"]]
     assert "worth it?" in head
     assert f"{d:,.2f} EUR more per board" in head
     for r in demo_result.problem.scenario.requirements:

@@ -7,7 +7,8 @@ import numpy as np
 import pytest
 from outputs_support import DEMO, run
 
-from stackopt.outputs.facts import comparison, cost_items, responses, selected_index, unique_picks
+from stackopt.outputs.case import four_layer_case
+from stackopt.outputs.facts import cost_items, responses, selected_index, unique_picks
 from stackopt.outputs.report import report_document, report_markdown
 
 
@@ -25,13 +26,14 @@ def test_cost_items_sum_to_unit_cost(demo_result):
 
 
 def test_comparison_numbers(demo_result):
-    c = comparison(demo_result)
+    c = four_layer_case(demo_result)
     ev = demo_result.evaluation
-    assert c.meet == demo_result.picks["cheapest_meeting_requirements"]
+    assert c.status == "compared"
+    assert c.multi == demo_result.picks["cheapest_meeting_requirements"]
     assert int(ev.geometry.layers[c.two]) == 2
-    assert c.d_unit == pytest.approx(ev.unit_cost[c.meet] - ev.unit_cost[c.two])
+    assert c.d_unit == pytest.approx(ev.unit_cost[c.multi] - ev.unit_cost[c.two])
     assert c.d_lot == pytest.approx(c.d_unit * demo_result.problem.scenario.board.quantity)
-    assert c.cost_per_db == pytest.approx(c.d_unit / (ev.margin[c.meet] - ev.margin[c.two]))
+    assert c.cost_per_db == pytest.approx(c.d_unit / (ev.margin[c.multi] - ev.margin[c.two]))
     assert len(c.d_att) == len(demo_result.problem.scenario.requirements)
 
 

@@ -25,6 +25,14 @@ def register(sub: argparse._SubParsersAction) -> None:
 def run(args: argparse.Namespace) -> int:
     """Load, validate and describe."""
     from stackopt.circuit import compile_circuit
+    from stackopt.outputs.circuit_echo import (
+        ELEMENT_HEAD,
+        GROUND_HEAD,
+        element_rows,
+        ground_rows,
+    )
+    from stackopt.outputs.reasons import rules
+    from stackopt.search.genome import decode_genome, genome_bounds
     from stackopt.search.problem import Problem
 
     inp = load_inputs(args.scenario, args.costs)
@@ -42,17 +50,12 @@ def run(args: argparse.Namespace) -> int:
     say(f"circuit  z0 {fq(c.z0, 'impedance')}, ports {c.input} -> {c.output}, "
           f"{compiled.n_elements} elements ({', '.join(compiled.names)}), "
           f"{len(compiled.conn_names)} ground connections")
-    if c.filter is not None:  # the generated parts, with their values
-        from stackopt.circuit.filters import filter_circuit
-
-        gen = filter_circuit(c.filter, c.z0, c.input, c.output)
-        dims = {"L": "inductance", "C": "capacitance", "R": "impedance"}
-        say(table([[e.name, e.type, fq(float(e.value), dims[e.type]),  # type: ignore[arg-type]
-                     f"{e.between[0]} - {e.between[1]}", e.ground or ""]
-                   for e in gen.elements],
-                  ["generated", "type", "value", "between", "ground"]))
-        for note in problem.placed[1]:
-            say("note: " + note)
+    say(table(element_rows(c), ELEMENT_HEAD))  # generated filters expanded, with units
+    grows = ground_rows(c)
+    if grows:
+        say(table(grows, GROUND_HEAD))
+    for note in problem.placed[1]:
+        say("note: " + note)
     rows = []
     for r in sc.requirements:
         where = (fq(r.frequency, "frequency") if r.frequency is not None else
@@ -88,6 +91,10 @@ def run(args: argparse.Namespace) -> int:
         fac = ", ".join(f"{m} x{k:.3g}" for m, k in cal.factors().items())
         say(f"calibration  {cal.file}: {len(cal.data.coupons)} coupon(s); factors {fac}; "
             f"ranking model {sc.search.via_model} x{sc.search.via_scale(sc.search.via_model):.3g}")
+    codes = problem.evaluate(decode_genome(sp, genome_bounds(sp)[0][None, :])).violations
+    say("constraints every candidate must meet:")
+    for text in rules(problem, codes):
+        say(f"  - {text}")
     say("ok")
     return 0
 

@@ -34,6 +34,7 @@ def run(args: argparse.Namespace) -> int:
     """Evaluate and print."""
     from stackopt.analyses.lines import line_rows
     from stackopt.inputs.stackup_file import load_selected
+    from stackopt.outputs.reasons import because, sentence, would_work_if
     from stackopt.search.problem import Problem
     from stackopt.search.single import evaluate_stackup
 
@@ -71,6 +72,7 @@ def run(args: argparse.Namespace) -> int:
         "via_model": sc.search.via_model,
         "calibration": (None if sc.search.calibration is None
                         else sc.search.calibration.echo()),  # type: ignore[union-attr]
+        "violations_in_words": because(problem, ev, 0),
     }
     if args.json:
         say(json.dumps(out, indent=2))
@@ -113,5 +115,6 @@ def run(args: argparse.Namespace) -> int:
     say(f"lot of {sc.board.quantity:,}: {money(out['lot_cost'], cur)}; lead time "
           f"{out['lead_time_days']:g} working days")
     if out["violations"]:
-        say("violates: " + "; ".join(out["violations"]))
+        say("cannot be built as is: " + sentence(because(problem, ev, 0)))
+        say("it would be feasible if " + " and ".join(would_work_if(problem, ev, 0)) + ".")
     return 0

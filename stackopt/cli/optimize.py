@@ -3,11 +3,11 @@
 from __future__ import annotations
 
 import argparse
-import sys
 from pathlib import Path
 
 from stackopt.cli.common import load_inputs, safe_dirname, table
 from stackopt.cli.options import count, lot_sizes
+from stackopt.cli.progress import Progress
 from stackopt.cli.registry import help_of
 from stackopt.cli.text import say as _say
 from stackopt.errors import InputError
@@ -55,26 +55,28 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.set_defaults(func=run)
 
 
-class _Bar:
-    """A progress bar on stderr for searches that take more than a moment."""
+def _case_line(result) -> str:
+    """The four-layer case in one or two console lines."""
+    from stackopt.outputs.case import four_layer_case
 
-    def __init__(self, enabled: bool) -> None:
-        self.enabled = enabled and sys.stderr.isatty()
-        self.last = -1
-
-    def __call__(self, done: int, total: int) -> None:
-        if not self.enabled:
-            return
-        pct = min(100, int(100 * done / max(total, 1)))
-        if pct != self.last:
-            self.last = pct
-            bar = "#" * (pct // 4) + "-" * (25 - pct // 4)
-            print(f"\r  searching [{bar}] {pct:3d}% ({done}/{total})", end="",
-                  file=sys.stderr, flush=True)
-
-    def close(self) -> None:
-        if self.enabled and self.last >= 0:
-            print(file=sys.stderr)
+    c = four_layer_case(result)
+    cur = result.problem.table.currency
+    ids = result.ids
+    if c.status == "compared":
+        assert c.two is not None and c.multi is not None and c.d_unit is not None
+        gains = ", ".join(f"{d:+.1f} dB at {lab}" for _k, lab, d in c.d_att)
+        per = (f"; {money(c.cost_per_db, cur, 3)} per board per dB"
+               if c.cost_per_db is not None else "")
+        return (f"  recommended {ids[c.multi]} costs {money(c.d_unit, cur)} per board "
+                f"({money(c.d_lot, cur, 0)} per lot) more than the cheapest two-layer board "
+                f"that can be built ({ids[c.two]}) and buys {gains}{per}")
+    if c.status == "no_two_layer_in_space":
+        return "  the design space has no two-layer boards: no claim about them"
+    if c.status == "no_feasible_two_layer":
+        return "  " + c.blocked_words()
+    if c.status == "two_layer_meets":
+        return "  a two-layer board meets every requirement"
+    return "  nothing meets every requirement"
 
 
 def run(args: argparse.Namespace) -> int:
@@ -107,7 +109,7 @@ def run(args: argparse.Namespace) -> int:
         + (" (built-in demo)" if inp.demo else ""))
     quantities = args.quantities or inp.scenario.board.quantities
     memo = ResponseMemo() if quantities else None
-    bar = _Bar(not args.quiet)
+    bar = Progress("searching", not args.quiet)
     try:
         pause_point("search")
         result = stackopt.optimize(inp.scenario, inp.table, seed=args.seed,
@@ -150,7 +152,11 @@ def default_out(scenario_name: str, fab: str | None) -> Path:
 
 
 def say_result(result, say) -> None:
-    """The search in a few lines: method and counts, the picks, what is missing."""
+    """The search in a few lines: method and counts, the picks, the four-layer case, the
+    prepreg answer, what is missing."""
+    from stackopt.outputs.prepregs import prepreg_rows, prepreg_sentence, prepreg_table
+    from stackopt.outputs.reasons import because, sentence
+
     cur = result.problem.table.currency
     scenario = result.problem.scenario
     say(f"  method {result.method}: {result.space_size:,} stackups in the space, "
@@ -182,12 +188,22 @@ def say_result(result, say) -> None:
         if i is not None and i == sel and limit_line(result, name):
             say(f"  what limits it: {limit_line(result, name)}")
             break
+    say(_case_line(result))
+    if result.feasible.any():
+        rows_p = prepreg_rows(result)
+        head, prows = prepreg_table(result, rows_p, compact=True)
+        say(table(prows, head))
+        left = sum(r.cheapest is None for r in rows_p)
+        if left:
+            say(f"  {left} more stocked top dielectric(s) give no board that can be built "
+                "(the report says why)")
+        say("  " + prepreg_sentence(result, rows_p))
     if not result.feasible.any():
         say("  No candidate satisfies the fab's and the scenario's constraints. Nearest:")
         for i in result.closest(3):
             rec = result.record(i)
-            say(f"    {rec['id']} ({rec['layers']} layers): violates "
-                + "; ".join(rec["violations"]))
+            say(f"    {rec['id']} ({rec['layers']} layers): "
+                + sentence(because(result.problem, result.evaluation, i)))
     elif result.picks["cheapest_meeting_requirements"] is None:
         say("  No candidate meets every requirement. Closest:")
         for i in result.closest(3):

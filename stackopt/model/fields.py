@@ -13,9 +13,10 @@ Use them in frozen models (``model_config = FROZEN``):
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Annotated
+from typing import Annotated, get_args, get_origin
 
 from pydantic import AfterValidator, BeforeValidator, ConfigDict
+from pydantic.fields import FieldInfo
 
 from stackopt.errors import InputError
 from stackopt.units import Dimension, parse_quantity
@@ -29,7 +30,26 @@ def _parser(dim: Dimension):
     def parse(v: object) -> float:
         return parse_quantity(v, dim)
 
+    parse.dimension = dim  # type: ignore[attr-defined]  # read by dimension_of
     return BeforeValidator(parse)
+
+
+def dimension_of(field: FieldInfo) -> Dimension | None:
+    """The unit dimension of a model field declared with one of the types below
+    (``None`` for a plain field), so that outputs can print any field with its unit."""
+    def find(metadata, annotation) -> Dimension | None:
+        for m in metadata:
+            dim = getattr(getattr(m, "func", None), "dimension", None)
+            if dim is not None:
+                return dim
+        for arg in get_args(annotation):  # Optional[...] and Annotated[...] inside
+            extra = arg.__metadata__ if get_origin(arg) is Annotated else ()
+            dim = find(extra, arg)
+            if dim is not None:
+                return dim
+        return None
+
+    return find(field.metadata, field.annotation)
 
 
 def _positive(x: float) -> float:

@@ -413,9 +413,15 @@ class Scenario(BaseModel):
                                            "by the field-solver check of the lines")
     space: SpaceSpec = SpaceSpec()
     search: SearchSpec = SearchSpec()
+    passband: tuple[Frequency, Frequency] | None = Field(
+        None, description="[low, high] where the circuit should pass the signal; default "
+        "from a generated filter's cutoff")
 
     @model_validator(mode="after")
     def _check(self) -> Scenario:
+        if self.passband is not None and not 0 < self.passband[0] < self.passband[1]:
+            raise ValueError("passband must be [low, high] with 0 < low < high "
+                             "(e.g. [10 MHz, 1 GHz])")
         if self.search.objective == "margin" and not self.requirements:
             raise ValueError("objective 'margin' needs at least one entry in 'requirements'")
         unique_names([r.name for r in self.requirements], "requirements", "requirements")
@@ -443,6 +449,20 @@ class Scenario(BaseModel):
                     "space.layers or use an outer-layer type (microstrip, cpwg, "
                     "diff-microstrip)")
         return self
+
+    @property
+    def passband_hz(self) -> tuple[float, float] | None:
+        """Where the circuit should pass the signal, Hz: ``passband`` if given, else a
+        generated low-pass filter's cutoff / 100 .. cutoff, a high-pass one's cutoff ..
+        3 x cutoff (our convention); ``None`` for a listed circuit without ``passband``."""
+        if self.passband is not None:
+            return self.passband
+        f = self.circuit.filter
+        if f is None:
+            return None
+        if f.response == "lowpass":
+            return (f.cutoff / 100.0, f.cutoff)
+        return (f.cutoff, 3.0 * f.cutoff)
 
     @property
     def frequencies(self) -> tuple[float, ...]:

@@ -14,7 +14,7 @@ from stackopt.outputs.exports import (
     selected_yaml,
     summary_json,
 )
-from stackopt.outputs.facts import selected_index, sweep_freqs
+from stackopt.outputs.facts import passband_summary, selected_index, sweep_freqs
 from stackopt.outputs.files import prepare_out_dir
 from stackopt.outputs.resultdir import write_result
 
@@ -48,6 +48,7 @@ def render_all(result, extra_summary: dict | None = None, sweep=None) -> dict[st
     against quantity and the summary's ``quantity_sweep`` only with a ``sweep``
     (:class:`~stackopt.analyses.quantities.QuantitySweep`)."""
     from stackopt.analyses.ideal import ideal_ground
+    from stackopt.outputs.case import four_layer_case
     from stackopt.outputs.parallel import render
     from stackopt.outputs.plots import figure_bytes, plot_front, plot_response
     from stackopt.outputs.plots_ladder import plot_mitigations
@@ -58,6 +59,8 @@ def render_all(result, extra_summary: dict | None = None, sweep=None) -> dict[st
     ladder = mitigation_ladder(result)
     extra = {**(extra_summary or {}),
              "ideal_ground": ideal_ground(result.problem).to_summary(),
+             "four_layer_case": four_layer_case(result).to_summary(result),
+             "passband": passband_summary(result),
              "mitigation_ladder": ladder.to_summary() if ladder is not None else None}
     if sweep is not None:
         from stackopt.outputs.sweep import plot_quantities, sweep_summary
@@ -80,7 +83,7 @@ def render_all(result, extra_summary: dict | None = None, sweep=None) -> dict[st
         from stackopt.outputs.plots_robust import plot_robustness
 
         jobs["robustness"] = lambda: figure_bytes(plot_robustness(result), "png")
-    if ladder is not None:
+    if ladder is not None and not ladder.blocked:  # a blocked ladder has nothing to plot
         jobs["mitigations"] = lambda: figure_bytes(plot_mitigations(ladder, result), "png")
     if sweep is not None:
         jobs["quantities"] = lambda: figure_bytes(plot_quantities(sweep), "png")

@@ -7,21 +7,32 @@ Nothing here formats for people except :func:`money`, :func:`mm` and :func:`db`.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 
 import numpy as np
 
 from stackopt.search.picks import PICKS
 
-__all__ = ["unique_picks", "selected_index", "cost_items",
-           "sweep_freqs", "responses", "top_dielectric", "shortfalls", "Comparison",
-           "comparison", "money", "mm", "db"]
+__all__ = ["RECOMMENDED", "unique_picks", "selected_index",
+           "cost_items", "sweep_freqs", "responses", "passband_losses", "passband_summary",
+           "ground_figures", "top_dielectric", "shortfalls", "money", "money_digits", "mm",
+           "db"]
 
 def money(x: float | None, currency: str, digits: int = 2) -> str:
     """``1,234.50 EUR``; ``n/a`` for ``None`` or a non-finite value."""
     if x is None or not math.isfinite(x):
         return "n/a"
     return f"{x:,.{digits}f} {currency}"
+
+
+def money_digits(values, floor: int = 2, most: int = 4) -> int:
+    """Decimals that tell the amounts ``values`` apart (at least ``floor``, at most
+    ``most``): 1.478 and 1.482 need 3, where 2 would print both as 1.48."""
+    v = np.unique(np.round(np.asarray([x for x in values if x is not None
+                                       and math.isfinite(x)], dtype=float), 9))
+    for d in range(floor, most + 1):
+        if len(np.unique(np.round(v, d))) == len(v):
+            return d
+    return most
 
 
 def mm(x: float | None, digits: int = 3) -> str:
@@ -48,12 +59,17 @@ def unique_picks(result) -> list[tuple[int, list[str]]]:
     return list(out.items())
 
 
+#: Picks that can be the recommendation, most trusted first (the robust pick where the
+#: search has one).
+RECOMMENDED = ("cheapest_robust", "cheapest_meeting_requirements")
+
+
 def selected_index(result) -> int | None:
     """The recommended candidate: the cheapest robust one (every requirement under every
     listed via model and the yield target), else the cheapest meeting the requirements,
     else the closest feasible one, else the evaluated candidate with the best margin
     (``None``: nothing)."""
-    for name in ("cheapest_robust", "cheapest_meeting_requirements"):
+    for name in RECOMMENDED:
         i = result.picks.get(name)
         if i is not None:
             return int(i)
@@ -110,40 +126,61 @@ def shortfalls(result, i: int) -> list[tuple[str, float, float, float]]:
             for k, r in enumerate(sc.requirements)]
 
 
-@dataclass(frozen=True)
-class Comparison:
-    """The first-screen question: the best two-layer option against the cheapest stackup
-    that meets the requirements."""
+def passband_losses(result, idx, n: int = 201) -> tuple[np.ndarray, np.ndarray] | None:
+    """(worst insertion loss (k,), worst return loss (k,)) in dB of candidates ``idx``
+    over the scenario's passband (:attr:`Scenario.passband_hz`; ``None`` without one):
+    the largest -20 log10|S21| and the smallest -20 log10|S11| on ``n`` log-spaced points
+    with the band edges, under the scenario's via model."""
+    from stackopt.circuit import solve
+    from stackopt.circuit.metrics import passband_insertion_loss_db, worst_in_band
 
-    two: int | None  # best (mitigated) two-layer candidate
-    meet: int | None  # cheapest candidate meeting every requirement
-    d_unit: float | None  # meet - two, per board
-    d_lot: float | None
-    d_margin: float | None  # dB of margin bought
-    d_att: list[tuple[str, float]]  # (requirement label, dB bought)
-    cost_per_db: float | None  # per board and dB of margin
-    lot_per_db: float | None
-
-    @property
-    def two_meets(self) -> bool:
-        """A two-layer board already meets the requirements."""
-        return self.meet is not None and self.meet == self.two
+    pb = result.problem
+    band = pb.scenario.passband_hz
+    if band is None:
+        return None
+    f = np.geomspace(band[0], band[1], n)
+    idx = np.asarray(idx, dtype=np.int64)
+    s = solve(pb.compiled, f, pb.ground_batch(pb.space.geometry(result.candidates.take(idx))),
+              pb.scenario.search.via_model)
+    il = passband_insertion_loss_db(f, s, band)
+    rl_f = -20 * np.log10(np.maximum(np.abs(s[..., 0, 0]), 1e-15))
+    return il, worst_in_band(f, rl_f, band, worst="min")
 
 
-def comparison(result) -> Comparison:
-    """Compute the :class:`Comparison` (``None`` fields where a side is missing)."""
-    ev = result.evaluation
-    two = result.picks.get("best_two_layer")
-    meet = result.picks.get("cheapest_meeting_requirements")
-    if meet is not None and int(ev.geometry.layers[meet]) == 2:
-        two = meet  # a two-layer board meets the requirements: nothing to buy
-    if two is None or meet is None:
-        return Comparison(two, meet, None, None, None, [], None, None)
-    d_unit = float(ev.unit_cost[meet] - ev.unit_cost[two])
-    d_lot = float(ev.lot_cost[meet] - ev.lot_cost[two])
-    d_margin = float(ev.margin[meet] - ev.margin[two])
-    d_att = [(r.label, float(ev.attenuation[meet, k] - ev.attenuation[two, k]))
-             for k, r in enumerate(result.problem.scenario.requirements)]
-    per = d_unit / d_margin if d_margin > 1e-9 else None
-    lot = d_lot / d_margin if d_margin > 1e-9 else None
-    return Comparison(two, meet, d_unit, d_lot, d_margin, d_att, per, lot)
+def ground_figures(result, idx) -> tuple[np.ndarray, np.ndarray]:
+    """What sets a filter's stopband among the ground connections of candidates ``idx``:
+    (the largest self inductance of one grounded element's path (k,), the largest mutual
+    inductance between two elements on different connections (k,)), H, under the
+    scenario's via model (0 where the circuit has no such pair)."""
+    from stackopt.circuit import ground_inductance_matrix
+
+    pb = result.problem
+    idx = np.asarray(idx, dtype=np.int64)
+    gb = pb.ground_batch(pb.space.geometry(result.candidates.take(idx)))
+    lmat = ground_inductance_matrix(pb.compiled, gb, pb.scenario.search.via_model)
+    k, g = len(idx), lmat.shape[-1]
+    if g == 0:
+        return np.zeros(k), np.zeros(k)
+    own = np.diagonal(lmat, axis1=-2, axis2=-1).max(axis=-1)
+    conn = np.asarray(pb.compiled.terminal_conn)
+    other = conn[:, None] != conn[None, :]
+    mutual = np.where(other[None], np.abs(lmat), 0.0).max(axis=(-2, -1))
+    return own, mutual
+
+
+def passband_summary(result) -> dict | None:
+    """``summary.json``'s ``passband``: the band and, per named pick, its worst insertion
+    and return loss over it (``None`` when the scenario has no passband)."""
+    band = result.problem.scenario.passband_hz
+    picks = unique_picks(result)
+    if band is None:
+        return None
+    out: dict = {"low_Hz": float(band[0]), "high_Hz": float(band[1]), "picks": {}}
+    if not picks:
+        return out
+    il, rl = passband_losses(result, [i for i, _ in picks])  # type: ignore[misc]
+    for k, (i, names) in enumerate(picks):
+        for name in names:
+            out["picks"][name] = {"id": result.ids[i], "insertion_loss_dB": float(il[k]),
+                                  "return_loss_dB": float(rl[k])}
+    return out

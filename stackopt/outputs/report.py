@@ -2,23 +2,31 @@
 
 :func:`report_document` builds the content as plain-text blocks (see
 :mod:`stackopt.outputs.report_render`); :func:`report_markdown` and :func:`report_html`
-render it. The first screen answers "are more layers worth it?": the best two-layer option
-against the cheapest stackup meeting every requirement, per board, per lot, in dB at each
-requirement and per dB of margin; or, if nothing meets them, the closest candidates and
-what they miss by.
+render it. The first screen answers "are more layers worth it?": the recommended board
+against the cheapest two-layer board that can be built, per board, per lot, in dB at each
+requirement and per dB of margin, then the best two-layer option (see
+:mod:`stackopt.outputs.case`); or, if nothing meets them, the closest candidates and what
+they miss by.
 """
 
 from __future__ import annotations
 
+from stackopt.model.mitigations import MITIGATIONS
+from stackopt.outputs.case import four_layer_case
+from stackopt.outputs.circuit_echo import ELEMENT_HEAD, GROUND_HEAD, element_rows, ground_rows
 from stackopt.outputs.facts import (
-    comparison,
     db,
+    ground_figures,
     mm,
     money,
+    money_digits,
+    passband_losses,
     shortfalls,
     top_dielectric,
     unique_picks,
 )
+from stackopt.outputs.prepregs import prepreg_rows, prepreg_sentence, prepreg_table
+from stackopt.outputs.reasons import because, sentence
 from stackopt.outputs.report_ladder import ladder_section
 from stackopt.outputs.report_render import render_html, render_markdown
 from stackopt.outputs.report_robust import margin_cell, recommendation_blocks, robustness_section
@@ -31,6 +39,7 @@ from stackopt.outputs.report_sections import (
     stackup_table,
 )
 from stackopt.search.picks import PICKS
+from stackopt.units import format_quantity as fq
 
 __all__ = ["report_document", "report_markdown", "report_html", "IMAGE_FILES"]
 
@@ -58,112 +67,152 @@ def _misses(result, i: int) -> str:
     return "misses " + ", ".join(f"{lab} by {-m:.1f} dB" for lab, m in fails)
 
 
-def _compare_table(result, two: int, meet: int) -> tuple:
+def _mits(result, i: int) -> list[str]:
+    g = result.evaluation.geometry
+    return [MITIGATIONS[m].words
+            for m in result.problem.space.mitigations if g.flags[m][i]]
+
+
+def _compare_table(result, c) -> tuple:
+    """Cheapest feasible two-layer board, best two-layer board (if another) and the
+    recommendation side by side; the difference is recommended minus cheapest two-layer."""
     ev, cur = result.evaluation, result.problem.table.currency
-    a, b = two, meet
+    cols = [c.two] + ([c.best_two] if c.best_two not in (None, c.two) else []) + [c.multi]
+    a, b = c.two, c.multi
+    digits = money_digits(ev.unit_cost[cols])
+    own, mutual = ground_figures(result, cols)
+    pband = passband_losses(result, cols)
+
+    def row(label, cells, diff=""):
+        return [label, *cells, diff]
+
     rows = [
-        ["Candidate", result.ids[a], result.ids[b], ""],
-        ["Copper layers", str(_layers(result, a)), str(_layers(result, b)),
-         f"{_layers(result, b) - _layers(result, a):+d}"],
-        ["Cost per board", money(ev.unit_cost[a], cur), money(ev.unit_cost[b], cur),
-         money(ev.unit_cost[b] - ev.unit_cost[a], cur)],
-        ["Cost of the lot", money(ev.lot_cost[a], cur, 0), money(ev.lot_cost[b], cur, 0),
-         money(ev.lot_cost[b] - ev.lot_cost[a], cur, 0)],
-        ["Lead time", f"{ev.lead_time_days[a]:g} days", f"{ev.lead_time_days[b]:g} days",
-         f"{ev.lead_time_days[b] - ev.lead_time_days[a]:+g} days"],
+        row("Candidate", [result.ids[i] for i in cols]),
+        row("Copper layers", [str(_layers(result, i)) for i in cols],
+            f"{_layers(result, b) - _layers(result, a):+d}"),
+        row("Cost per board", [money(ev.unit_cost[i], cur, digits) for i in cols],
+            money(ev.unit_cost[b] - ev.unit_cost[a], cur, digits)),
+        row("Cost of the lot", [money(ev.lot_cost[i], cur, 0) for i in cols],
+            money(ev.lot_cost[b] - ev.lot_cost[a], cur, 0)),
+        row("Lead time", [f"{ev.lead_time_days[i]:g} days" for i in cols],
+            f"{ev.lead_time_days[b] - ev.lead_time_days[a]:+g} days"),
     ]
     for k, r in enumerate(result.problem.scenario.requirements):
-        rows.append([f"Attenuation at {r.label} (need {r.min_attenuation:g} dB)",
-                     db(ev.attenuation[a, k]), db(ev.attenuation[b, k]),
-                     db(ev.attenuation[b, k] - ev.attenuation[a, k], sign=True)])
+        rows.append(row(f"Attenuation at {r.label} (need {r.min_attenuation:g} dB)",
+                        [db(ev.attenuation[i, k]) for i in cols],
+                        db(ev.attenuation[b, k] - ev.attenuation[a, k], sign=True)))
+    rows.append(row("Margin (worst requirement)", [db(ev.margin[i], sign=True) for i in cols],
+                    db(ev.margin[b] - ev.margin[a], sign=True)))
+    if pband is not None:
+        il, rl = pband
+        rows += [row("Passband insertion loss (worst)", [db(x, 2) for x in il]),
+                 row("Passband return loss (worst)", [db(x) for x in rl])]
     rows += [
-        ["Margin (worst requirement)", db(ev.margin[a], sign=True), db(ev.margin[b], sign=True),
-         db(ev.margin[b] - ev.margin[a], sign=True)],
-        ["Ground inductance (sum)", f"{ev.inductance[a] * 1e9:.3g} nH",
-         f"{ev.inductance[b] * 1e9:.3g} nH", ""],
-        ["Finished thickness", mm(ev.geometry.thickness[a]), mm(ev.geometry.thickness[b]), ""],
+        row("Worst ground path (one element's inductance to the plane)",
+            [fq(x, "inductance") for x in own]),
+        row("Largest coupling between two ground connections (mutual inductance)",
+            [fq(x, "inductance") for x in mutual]),
+        row("Mitigations", [", ".join(_mits(result, i)) or "none" for i in cols]),
+        row("Finished thickness", [mm(ev.geometry.thickness[i]) for i in cols]),
     ]
-    return ("table", ["", "Best two-layer", "Cheapest meeting the requirements",
-                      "Difference"], rows)
+    head = ["", "Cheapest two-layer"] + (["Best two-layer"] if len(cols) == 3 else []) + [
+        "Recommended", "Recommended minus cheapest two-layer"]
+    return ("table", head, rows)
+
+
+def _nothing_meets(result, c) -> list[tuple]:
+    ev, cur = result.evaluation, result.problem.table.currency
+    out: list[tuple] = [("h2", "Does any stackup meet the requirements?")]
+    close = result.closest(3)
+    text = "No. None of the evaluated stackups meets every requirement. "
+    if close and result.feasible[close[0]]:
+        text += (f"The closest, {result.ids[close[0]]} ({_layers(result, close[0])} layers, "
+                 f"{money(ev.unit_cost[close[0]], cur)} per board), "
+                 f"{_misses(result, close[0])}.")
+    elif close:
+        text += ("No candidate is even feasible for this fab: the nearest, "
+                 f"{result.ids[close[0]]}, fails because "
+                 + "; ".join(because(result.problem, ev, close[0])) + ".")
+    else:
+        text += "No candidate was evaluated."
+    if c.status == "no_feasible_two_layer" and c.blocked_by:
+        text += " " + c.blocked_words()
+    out.append(("answer", text))
+    out.append(("p", "Relax a requirement, allow more layers, thinner dielectrics, more "
+                "vias per ground or the mitigations, or choose another fab."))
+    if close:
+        rows = []
+        for i in close:
+            fails = "; ".join(f"{lab}: {a:.1f} of {r:g} dB ({m:+.1f} dB)"
+                              for lab, a, r, m in shortfalls(result, i) if m < 0)
+            if not result.feasible[i]:
+                fails = sentence(because(result.problem, ev, i))
+            rows.append([result.ids[i], str(_layers(result, i)),
+                         money(ev.unit_cost[i], cur), db(ev.margin[i], sign=True),
+                         fails or "none"])
+        out.append(("table", ["Candidate", "Layers", "Cost per board", "Margin",
+                              "Failing requirement (got of needed) or constraint"], rows))
+    return out
 
 
 def first_screen(result) -> list[tuple]:
     """The answer, then the comparison table (or the closest candidates)."""
     ev, cur = result.evaluation, result.problem.table.currency
     q = result.problem.scenario.board.quantity
-    c = comparison(result)
-    out: list[tuple] = []
-    if c.meet is None:
-        out.append(("h2", "Does any stackup meet the requirements?"))
-        close = result.closest(3)
-        out.append(("answer", "No. None of the evaluated stackups meets every requirement. "
-                    + (f"The closest, {result.ids[close[0]]} ({_layers(result, close[0])} "
-                       f"layers, {money(ev.unit_cost[close[0]], cur)} per board), "
-                       f"{_misses(result, close[0])}." if close else
-                       "No candidate is even feasible for this fab.")))
-        out.append(("p", "Relax a requirement, allow more layers, thinner dielectrics, more "
-                    "vias per ground or the mitigations, or choose another fab."))
-        if close:
-            rows = []
-            for i in close:
-                fails = "; ".join(f"{lab}: {a:.1f} of {r:g} dB ({m:+.1f} dB)"
-                                  for lab, a, r, m in shortfalls(result, i) if m < 0)
-                rows.append([result.ids[i], str(_layers(result, i)),
-                             money(ev.unit_cost[i], cur), db(ev.margin[i], sign=True),
-                             fails or "none"])
-            out.append(("table", ["Candidate", "Layers", "Cost per board", "Margin",
-                                  "Failing requirement (got of needed)"], rows))
-        return out
-    n = _layers(result, c.meet)
-    if c.two_meets:
-        out.append(("h2", "Are more layers worth it?"))
+    c = four_layer_case(result)
+    if c.multi is None:
+        return _nothing_meets(result, c)
+    m = c.multi
+    n = _layers(result, m)
+    rec = (f"{result.ids[m]}, {n} layers, {money(ev.unit_cost[m], cur)} per board "
+           f"({money(ev.lot_cost[m], cur, 0)} for the lot of {q:,}) with "
+           f"{db(ev.margin[m], sign=True)} of margin")
+    if c.status == "two_layer_meets":
         best = result.picks.get("best_overall")
-        text = (f"No: a two-layer board meets every requirement. The cheapest, "
-                f"{result.ids[c.meet]}, costs {money(ev.unit_cost[c.meet], cur)} per board "
-                f"({money(ev.lot_cost[c.meet], cur, 0)} for the lot of {q:,}) with "
-                f"{db(ev.margin[c.meet], sign=True)} of margin.")
-        if best is not None and best != c.meet:
+        text = f"No: a two-layer board meets every requirement. The recommended one is {rec}."
+        if best is not None and best != m:
             text += (f" The best candidate overall ({_layers(result, best)} layers) reaches "
                      f"{db(ev.margin[best], sign=True)} for "
-                     f"{money(ev.unit_cost[best] - ev.unit_cost[c.meet], cur)} more per board.")
-        out.append(("answer", text))
+                     f"{money(ev.unit_cost[best] - ev.unit_cost[m], cur)} more per board.")
+        return [("h2", "Are more layers worth it?"), ("answer", text)]
+    out: list[tuple] = [("h2", f"Are {_words(n)} layers worth it?")]
+    if c.status == "no_two_layer_in_space":
+        counts = ", ".join(str(x) for x in sorted(set(result.problem.space.layer_counts)))
+        out.append(("answer", f"The design space has no two-layer boards (layer counts "
+                    f"searched: {counts}), so this report makes no claim about them. The "
+                    f"recommended stackup is {rec}."))
         return out
-    out.append(("h2", f"Is {_words(n)} layers worth it?"))
-    if c.two is None:
-        out.append(("answer", f"Only a multilayer board works here: no two-layer candidate is "
-                    f"feasible for this fab and scenario. The cheapest stackup meeting every "
-                    f"requirement is {result.ids[c.meet]}, {n} layers, "
-                    f"{money(ev.unit_cost[c.meet], cur)} per board "
-                    f"({money(ev.lot_cost[c.meet], cur, 0)} for the lot of {q:,})."))
+    if c.status == "no_feasible_two_layer":
+        out.append(("answer", c.blocked_words() + f" The recommended stackup is {rec}."))
         return out
     d_unit, d_lot = c.d_unit, c.d_lot
-    assert d_unit is not None and d_lot is not None  # both sides exist here
-    gains = ", ".join(f"{d:+.1f} dB at {lab}" for lab, d in c.d_att)
-    if d_unit > 0:
-        price_words = (f"cost {money(d_unit, cur)} more per board "
-                       f"({money(d_lot, cur, 0)} more for the lot of {q:,})")
-    else:  # the multilayer board is no dearer than the best (mitigated) two-layer one
-        price_words = (f"cost {money(-d_unit, cur)} less per board than the best "
-                       f"two-layer option ({money(-d_lot, cur, 0)} less for the lot of "
-                       f"{q:,})")
-    text = (f"{_words(n).capitalize()} layers {price_words} and buy {gains}. "
-            f"The best two-layer option ({result.ids[c.two]}) {_misses(result, c.two)}; "
-            f"the cheapest {n}-layer stackup that meets every requirement "
-            f"({result.ids[c.meet]}) has {db(ev.margin[c.meet], sign=True)} of margin.")
-    if d_unit <= 0:
-        text += (" Against the best two-layer option there is no trade-off: the multilayer "
-                 "board is both cheaper and better.")
+    assert d_unit is not None and d_lot is not None and c.two is not None
+    digits = money_digits([ev.unit_cost[c.two], ev.unit_cost[m]])
+    gains = ", ".join(f"{d:+.1f} dB at {lab}" for _k, lab, d in c.d_att)
+    more = "more" if d_unit > 0 else "less"
+    text = (f"{_words(n).capitalize()} layers cost {money(abs(d_unit), cur, digits)} {more} "
+            f"per board than the cheapest two-layer board that can be built "
+            f"({money(abs(d_lot), cur, 0)} {more} for the lot of {q:,}) and buy {gains}")
     if d_unit > 0 and c.cost_per_db is not None:
-        text += (f" That is {money(c.cost_per_db, cur, 3)} per board "
+        text += (f": {money(c.cost_per_db, cur, 3)} per board "
                  f"({money(c.lot_per_db, cur, 0)} per lot) for each dB of margin.")
-    cheap2 = result.picks.get("cheapest_two_layer")
-    if cheap2 is not None and cheap2 != c.two:
-        d = ev.unit_cost[c.meet] - ev.unit_cost[cheap2]
-        text += (f" Against the cheapest two-layer board ({result.ids[cheap2]}, "
-                 f"{db(ev.margin[cheap2], sign=True)}) it costs {money(abs(d), cur)} per "
-                 f"board {'more' if d > 0 else 'less'}.")
+    elif d_unit <= 0:
+        text += ": no trade-off, the multilayer board is both cheaper and better."
+    else:
+        text += "."
+    text += (f" The recommended board is {rec}; the cheapest two-layer board "
+             f"({result.ids[c.two]}, {money(ev.unit_cost[c.two], cur, digits)}) "
+             f"{_misses(result, c.two)}.")
+    if c.best_two is not None and c.best_two != c.two:
+        b = c.best_two
+        mits = _mits(result, b)
+        text += (f" The best two-layer option, {result.ids[b]} at "
+                 f"{money(ev.unit_cost[b], cur, digits)} per board, "
+                 + (f"adds {' and '.join(mits)} and " if mits else "")
+                 + f"{'' if result.meets[b] else 'still '}"
+                 f"{_misses(result, b)}.")
     out.append(("answer", text))
-    out.append(_compare_table(result, c.two, c.meet))
+    out.append(_compare_table(result, c))
     return out
 
 
@@ -208,8 +257,17 @@ def report_document(result, sweep=None) -> list[tuple]:
                ("img", "response", "|S21| of the picks against the same circuit with ideal "
                 "grounding; the red marks are the requirements."),
                ("img", "stackups", "Cross-sections of the picks."),
-               ("img", "costs", "Itemised cost per board of the picks."),
-               ("img", "prepregs", "Choice of the dielectric under the top copper.")]
+               ("img", "costs", "Itemised cost per board of the picks.")]
+    rows = prepreg_rows(result)
+    head, table = prepreg_table(result, rows)
+    blocks += [("h2", "Which dielectric under the top copper?"),
+               ("answer", prepreg_sentence(result, rows)),
+               ("p", "One row per stocked dielectric the design space can put directly under "
+                     "the top copper: the cheapest board using it that can be built (among "
+                     "those the search evaluated), and the best margin reached with it."),
+               ("table", head, table),
+               ("img", "prepregs", "Cost and margin of the cheapest board with each top "
+                "dielectric.")]
     from stackopt.outputs.report_calibration import calibration_section
 
     blocks += calibration_section(result)
@@ -219,8 +277,15 @@ def report_document(result, sweep=None) -> list[tuple]:
         from stackopt.outputs.sweep import sweep_section
 
         blocks += sweep_section(sweep)
+    circ = result.problem.scenario.circuit
     blocks += [("h2", "Assumptions"), ("ul", assumptions(result)),
-               ("h2", "Cautions"), ("ul", cautions(result))]
+               ("h3", "The circuit analysed"),
+               ("p", "Every element with its value (a generated filter expanded), its "
+                     "parasitics and its ground connection; then each ground connection."),
+               ("table", [h.capitalize() for h in ELEMENT_HEAD], element_rows(circ))]
+    if ground_rows(circ):
+        blocks.append(("table", [h.capitalize() for h in GROUND_HEAD], ground_rows(circ)))
+    blocks += [("h2", "Cautions"), ("ul", cautions(result))]
     return blocks
 
 

@@ -8,6 +8,7 @@ import numpy as np
 
 from stackopt.model.mitigations import MITIGATIONS
 from stackopt.outputs.facts import db, mm, money
+from stackopt.outputs.reasons import because, would_work_if
 
 __all__ = ["ladder_section"]
 
@@ -23,10 +24,21 @@ def _answer(ladder, cur: str, q: int) -> str:
     ev = ladder.evaluation
     c0, end = float(ev.unit_cost[0]), len(ev.unit_cost) - 1
     k = ladder.first_meeting
-    if not ev.feasible[0]:
-        return ("No: no two-layer combination is feasible for this fab and scenario (the "
-                "simplest one violates " + "; ".join(ev.violated(0)) + "). "
-                + ladder.four_layer_note)
+    if ladder.blocked:
+        pb = ladder.problem
+        text = (f"No: none of the {ladder.combinations:,} two-layer combinations can be "
+                "built for this fab and scenario. The nearest one ("
+                + ladder.changes[0] + ") fails because " + "; ".join(because(pb, ev, 0))
+                + "; it would be feasible if " + " and ".join(would_work_if(pb, ev, 0))
+                + ".")
+        fev = ladder.four_layer_evaluation
+        if fev is not None:
+            text += (f" The cheapest four-layer board that meets every requirement costs "
+                     f"{money(fev.unit_cost[0], cur)} per board with "
+                     f"{db(fev.margin[0], sign=True)} of margin.")
+        else:
+            text += " " + ladder.four_layer_note
+        return text
     if k == 0:
         text = (f"Yes: the plain two-layer board already meets every requirement, at "
                 f"{money(c0, cur)} per board with {db(ev.margin[0], sign=True)} of margin.")
@@ -60,9 +72,12 @@ def _step_rows(ladder, cur: str) -> list[list[str]]:
     for k in range(len(ev.unit_cost)):
         dc = 0.0 if k == 0 else float(ev.unit_cost[k] - ev.unit_cost[k - 1])
         free = abs(dc) <= 1e-9 * max(1.0, float(ev.unit_cost[k]))
+        dm = 0.0 if k == 0 else float(ev.margin[k] - ev.margin[k - 1])
+        per_db = ("" if k == 0 else "free" if free else
+                  money(dc / dm, cur, 3) if dm > 1e-9 else "no gain")
         row = [str(k), ladder.changes[k],
                "" if k == 0 else ("free" if free else money(dc, cur, 3)),
-               money(ev.unit_cost[k], cur, 3)]
+               money(ev.unit_cost[k], cur, 3), per_db]
         for j in range(len(reqs)):
             row.append(db(ev.attenuation[k, j]) if k == 0 else
                        db(ev.attenuation[k, j] - ev.attenuation[k - 1, j], sign=True))
@@ -91,7 +106,12 @@ def ladder_section(result, ladder) -> list[tuple]:
     cur = result.problem.table.currency
     q = result.problem.scenario.board.quantity
     reqs = result.problem.scenario.requirements
-    head = ["Step", "Change", "Δ cost per board", "Cost per board",
+    if ladder.blocked:
+        return [("h2", "Can we stay on two layers? The mitigation ladder"),
+                ("answer", _answer(ladder, cur, q)),
+                ("p", "The ladder starts only from a two-layer board that can be built; here "
+                      "none can, so there is no ladder to climb and nothing to plot.")]
+    head = ["Step", "Change", "Δ cost per board", "Cost per board", "Δ cost per dB of margin",
             *[f"Δ at {r.label} (dB)" for r in reqs], "Margin", "Meets"]
     out: list[tuple] = [
         ("h2", "Can we stay on two layers? The mitigation ladder"),

@@ -7,7 +7,8 @@ from __future__ import annotations
 import math
 
 from stackopt.model.mitigations import MITIGATIONS
-from stackopt.outputs.facts import comparison, db, mm, selected_index, unique_picks
+from stackopt.outputs.case import four_layer_case
+from stackopt.outputs.facts import db, mm, selected_index, unique_picks
 from stackopt.outputs.report_calibration import calibration_note
 from stackopt.outputs.report_lines import WIDE_TRACE, impedance_table, layer_lines, line_risks
 from stackopt.search.picks import PICKS
@@ -52,20 +53,21 @@ def risks(result) -> list[str]:
     g = ev.geometry
     out: list[str] = []
     sel = selected_index(result)
-    c = comparison(result)
-    cases = [(c.two, "best two-layer"), (sel, "recommended")]
-    if c.two is not None and c.two == sel:
+    c = four_layer_case(result)
+    two = c.best_two
+    cases = [(two, "best two-layer"), (sel, "recommended")]
+    if two is not None and two == sel:
         cases = [(sel, "recommended (also the best two-layer)")]
     for i, what in cases:
         if i is None:
             continue
         out += line_risks(result, i, what)
-        if i == c.two:
-            mit = [MITIGATIONS[m].label for m in result.problem.space.mitigations
+        if i == two:
+            mit = [MITIGATIONS[m].words for m in result.problem.space.mitigations
                    if g.flags[m][i]]
             if mit:
-                out.append(f"The best two-layer figure assumes {', '.join(mit)}: layout "
-                           "rules the designer and the fab must actually follow.")
+                out.append(f"The best two-layer board's figures rely on {' and '.join(mit)}: "
+                           "layout rules the designer and the fab must actually follow.")
     if sel is not None:
         st = result.stackup(sel)
         thin = min((d.thickness for d in st.dielectrics), default=math.inf)
@@ -83,8 +85,8 @@ def risks(result) -> list[str]:
             out.append(f"The recommended stackup has only {db(ev.margin[sel])} of margin; "
                        "part tolerances and the fab's thickness tolerance can eat it.")
         if c.two is not None and ev.lead_time_days[sel] > ev.lead_time_days[c.two]:
-            out.append(f"Lead time grows from {ev.lead_time_days[c.two]:g} to "
-                       f"{ev.lead_time_days[sel]:g} working days.")
+            out.append(f"Lead time grows from {ev.lead_time_days[c.two]:g} (cheapest "
+                       f"two-layer board) to {ev.lead_time_days[sel]:g} working days.")
     if not out:
         out.append("No specific risk found beyond the cautions below.")
     return out

@@ -7,7 +7,10 @@ Definitions (the choices are ours; each is stated in the report and in ``docs/ci
   switch and the fewest vias per ground connection; the cheapest of those, then the
   smallest drill, then the finished thickness nearest the window's nominal (its
   ``nominal``, else the middle of ``min``/``max``, else 1.6 mm). Where no plain board is
-  feasible, the feasible two-layer board with the fewest changes from plain.
+  feasible, the feasible two-layer board with the fewest changes from plain. Where no
+  two-layer board is feasible at all, the ladder is *blocked*: it has no steps, only the
+  two-layer board nearest to feasible (:func:`least_violating`), whose broken
+  constraints the report names with their figures.
 - **Single changes** from a board: one more via per ground connection (the next larger
   count of the space), the next larger drill, any thinner core whose finished board stays
   in the thickness window, and switching on one mitigation (``via_in_pad``, ``own_vias``,
@@ -44,6 +47,7 @@ from stackopt.search.problem import Evaluation, Problem
 from stackopt.search.space import Candidates, Space
 
 __all__ = ["Ladder", "mitigation_ladder", "build_ladder", "climb", "plain_board",
+           "least_violating", "nearest_alternatives",
            "two_layer_combinations", "ENUMERATE_LIMIT"]
 
 #: Two-layer combinations evaluated exhaustively up to this many.
@@ -102,6 +106,32 @@ def plain_board(problem: Problem, pool: Candidates, ev: Evaluation) -> int | Non
     order = np.lexsort((np.arange(len(pool)), near, g.drill, ev.unit_cost,
                         _changes(problem.space, pool), ~ev.feasible))
     return int(order[0])
+
+
+def least_violating(ev: Evaluation) -> int | None:
+    """The board of ``ev`` nearest to feasible: the fewest broken constraints, then the
+    smallest total violation, then the first (``None`` for an empty batch)."""
+    n = len(ev.unit_cost)
+    if not n:
+        return None
+    v = np.stack(list(ev.violations.values())) if ev.violations else np.zeros((1, n))
+    return int(np.lexsort((np.arange(n), v.sum(axis=0), (v > 0).sum(axis=0)))[0])
+
+
+def nearest_alternatives(ev: Evaluation, k: int = 3) -> list[int]:
+    """Boards of ``ev`` nearest to feasible by different routes: among those breaking the
+    fewest constraints, the one with the smallest total violation for each distinct set of
+    broken constraints, best first, at most ``k``."""
+    n = len(ev.unit_cost)
+    if not n or not ev.violations:
+        return []
+    v = np.stack(list(ev.violations.values()))
+    broken = v > 0
+    count = broken.sum(axis=0)
+    idx = np.flatnonzero(count == count.min())
+    idx = idx[np.lexsort((idx, v[:, idx].sum(axis=0)))]
+    _, first = np.unique(broken[:, idx].T, axis=0, return_index=True)
+    return [int(i) for i in idx[np.sort(first)][:k]]
 
 
 def _neighbours(problem: Problem, c: Candidates) -> tuple[Candidates, list[str]]:
@@ -225,6 +255,12 @@ class Ladder:
     four_layer_note: str
 
     @property
+    def blocked(self) -> bool:
+        """No two-layer board is feasible: ``steps`` holds only the one nearest to
+        feasible (not a ladder step; never plotted)."""
+        return not bool(self.evaluation.feasible[0])
+
+    @property
     def first_meeting(self) -> int | None:
         """First step whose board meets every requirement (None: two layers never do)."""
         ok = np.flatnonzero(self.evaluation.feasible & (self.evaluation.margin >= 0))
@@ -249,6 +285,9 @@ class Ladder:
         """One row per step: the change, Δcost per board, ΔdB at every requirement and of
         the margin, dB per unit cost (empty for a free step), and the board."""
         ev = self.evaluation
+        if self.blocked:
+            return pd.DataFrame(columns=["step", "kind", "change", "d_cost", "total_d_cost",
+                                         "d_margin_dB", "dB_per_cost"])
         dc = np.r_[0.0, np.diff(ev.unit_cost)]
         dm = np.r_[0.0, np.diff(ev.margin)]
         cols: dict[str, object] = {"step": np.arange(len(self.steps)), "kind": self.kinds,
@@ -274,7 +313,9 @@ class Ladder:
         if self.four_layer is not None and self.four_layer_evaluation is not None:
             parts.append(pd.DataFrame(self._columns(
                 self.four_layer, self.four_layer_evaluation)).assign(set="four_layer"))
-        df = pd.concat(parts, ignore_index=True)
+        cols = list(dict.fromkeys(c for p in parts for c in p.columns))
+        kept = [p for p in parts if len(p)]  # an empty part would turn columns to object
+        df = (pd.concat(kept, ignore_index=True) if kept else parts[0]).reindex(columns=cols)
         return df[["set", *[c for c in df.columns if c != "set"]]]
 
     def to_summary(self) -> dict:
@@ -286,7 +327,10 @@ class Ladder:
         if self.four_layer is not None and self.four_layer_evaluation is not None:
             four = rec(pd.DataFrame(self._columns(self.four_layer, self.four_layer_evaluation)
                                     ).iloc[0])
+        blocked = ([f"{k} (+{float(v[0]):.3g})" for k, v in self.evaluation.violations.items()
+                    if v[0] > 0] if self.blocked else [])
         return {"steps": [rec(r) for _, r in t.iterrows()],
+                "blocked_by": blocked,
                 "first_meeting_step": self.first_meeting,
                 "pareto": [rec(r) for _, r in self.pareto_table.iterrows()],
                 "combinations": self.combinations, "exhaustive": self.exhaustive,
@@ -334,6 +378,15 @@ def build_ladder(problem: Problem, pool: Candidates | None = None, *, four=None,
     if not len(pool) or not len(sp.options["core"]):
         return None
     ev = problem.evaluate(pool)
+    if not ev.feasible.any():  # blocked: no step, only the board nearest to feasible
+        k = least_violating(ev)
+        assert k is not None
+        near = pool.take(np.array([k]))
+        par = pool.take(np.zeros(0, dtype=np.int64))
+        four_ev = problem.evaluate(four) if four is not None else None
+        return Ladder(problem, near, problem.evaluate(near), ("blocked",),
+                      (_words(sp, None, near.matrix()[0]),), par, problem.evaluate(par),
+                      len(pool), exhaustive, four, four_ev, four_note)
     i0 = plain_board(problem, pool, ev)
     assert i0 is not None
     steps, kinds = climb(problem, pool.take(np.array([i0])))

@@ -1,0 +1,210 @@
+"""The first screen tells the truth: the four-layer case against the cheapest feasible
+two-layer board, no claim about boards outside the space, every violation code in words,
+the prepreg answer with one row per stocked top dielectric.
+
+The checks here are against the search's own arrays (unit costs, feasibility), i.e. the
+definitions the report promises in its words; the sentences are checked for their figures
+(limits taken from the cost table and the scenario, not from the report code).
+"""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+import numpy as np
+import pytest
+from outputs_support import ROOT, run
+
+from stackopt.outputs.case import four_layer_case
+from stackopt.outputs.prepregs import prepreg_rows, top_options
+from stackopt.outputs.reasons import SENTENCES, family
+from stackopt.outputs.report import report_document, report_markdown
+
+DEMOS = sorted((ROOT / "scenarios").glob("*.yaml"))
+
+
+def _text(blocks) -> str:
+    return "\n".join(str(b[1]) for b in blocks if b[0] in ("answer", "p"))
+
+
+@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
+def test_headline_extra_cost_is_against_cheapest_feasible_two_layer(path):
+    res = run(path)
+    c = four_layer_case(res)
+    s = c.to_summary(res)
+    ev = res.evaluation
+    two = np.flatnonzero(res.feasible & (ev.geometry.layers == 2))
+    if c.status != "compared":
+        assert s["extra_cost_per_board"] is None
+        return
+    cheapest_two = two[np.argmin(ev.unit_cost[two])]
+    rec = res.picks.get("cheapest_robust", res.picks["cheapest_meeting_requirements"])
+    want = ev.unit_cost[rec] - ev.unit_cost[cheapest_two]
+    assert s["extra_cost_per_board"] == pytest.approx(want, rel=1e-12)
+    assert s["extra_cost_per_lot"] == pytest.approx(want * res.problem.scenario.board.quantity)
+    assert s["two_layer_id"] == res.ids[c.two] and s["multilayer_id"] == res.ids[rec]
+    assert ev.unit_cost[c.two] == pytest.approx(ev.unit_cost[cheapest_two])
+    # the report's first money figure is the extra cost per board
+    md = report_markdown(res)
+    first = re.search(r"(-?[\d,]+\.\d+) " + res.problem.table.currency, md)
+    assert first is not None
+    assert float(first.group(1).replace(",", "")) == pytest.approx(abs(want), abs=0.006)
+
+
+def _variant(**changes):
+    import stackopt
+    from stackopt.inputs.costtable import load_cost_table
+    from stackopt.inputs.scenario import load_scenario, scenario_cost_table
+
+    path = ROOT / "scenarios" / "harmonic_lowpass.yaml"
+    sc = load_scenario(path)
+    table = scenario_cost_table(sc, path) or load_cost_table(path)
+    space = changes.pop("space", None)
+    if space is not None:
+        sc = sc.model_copy(update={"space": sc.space.model_copy(update=space)})
+    sc = sc.model_copy(update=changes)
+    return stackopt.optimize(sc, table)
+
+
+def test_four_layers_only_makes_no_two_layer_claim():
+    res = _variant(space={"layers": (4,)})
+    c = four_layer_case(res)
+    assert c.status == "no_two_layer_in_space"
+    text = _text(report_document(res)).lower()
+    assert "no two-layer boards" in text and "makes no claim" in text
+    assert "feasible" not in text.split("makes no claim")[0]
+    assert "two-layer candidate is feasible" not in text
+
+
+def test_no_feasible_two_layer_names_the_blocking_constraint():
+    # a 50 ohm line may be at most 0.5 mm wide: on two layers (1.5 mm core) it needs about
+    # 1 mm even as grounded coplanar, so no two-layer board can be built
+    sc_lines = run().problem.scenario.lines
+    lines = tuple(ln.model_copy(update={"max_width": 0.5e-3}) for ln in sc_lines)
+    res = _variant(lines=lines)
+    c = four_layer_case(res)
+    assert c.status == "no_feasible_two_layer"
+    head = [b for b in report_document(res) if b[0] == "answer"][0][1]
+    assert head.startswith("No two-layer board can be built")
+    assert "Two layers would be feasible if" in head
+    # one route: the line may be wider than its 0.5 mm limit
+    assert re.search(r"the 50 ohm line 'rf50' may be [\d.]+ mm wide \(limit 0.5 mm\)", head)
+    assert head.endswith(".") and "line_rf50" not in head
+    # the ladder neither starts from nor plots an infeasible board
+    from stackopt.outputs.bundle import render_all
+
+    files = render_all(res)
+    assert "mitigations.png" not in files
+    assert "line_rf50" not in files["report.md"].decode()
+
+
+def _emitted_codes() -> set[str]:
+    """Every violation code the source can emit: literal keys assigned to a violations
+    dict anywhere in the package, with f-string fields replaced by a sample name, plus
+    the pricing's list."""
+    from stackopt.cost.pricing import VIOLATIONS
+
+    codes = set(VIOLATIONS)
+    pat = re.compile(r"\bvio\w*\[\s*(f?)\"([^\"]+)\"\s*\]\s*=")
+    for path in Path(ROOT, "stackopt").rglob("*.py"):
+        for f, key in pat.findall(path.read_text()):
+            codes.add(re.sub(r"\{[^}]*\}", "x", key) if f else key)
+    return codes
+
+
+def test_every_violation_code_has_a_sentence():
+    codes = _emitted_codes()
+    assert {"thickness_window", "min_drill", "line_x_too_wide"} <= codes  # the scan works
+    for path in DEMOS:  # and every code a real evaluation returns
+        codes |= set(run(path).evaluation.violations)
+    missing = sorted(c for c in codes if family(c) not in SENTENCES)
+    assert not missing, f"violation codes without a sentence: {missing}"
+
+
+def test_sentences_carry_the_figures():
+    from stackopt.outputs.reasons import code_sentence
+
+    res = run()
+    pb = res.problem
+    cap = pb.table.capabilities
+    # 25 % under the minimum drill: the drill is 0.75 x the limit
+    s = code_sentence(pb, res.evaluation, 0, "min_drill", 0.25)
+    assert f"{cap.min_drill * 0.75 * 1e3:.3g} mm" in s and f"{cap.min_drill * 1e3:.3g} mm" in s
+    lo, hi = pb.scenario.space.thickness.bounds
+    s = code_sentence(pb, None, 0, "thickness_window", 0.0, "rule")
+    assert f"{lo * 1e3:.3g} mm to {hi * 1e3:.3g} mm" in s
+
+
+def test_prepreg_table_has_one_row_per_stocked_top_dielectric():
+    res = run()
+    sp = res.problem.space
+    want = set()
+    for a in sp.arrangements:  # independent count: slot 0's options of every arrangement
+        want |= set(sp.options[a.slot_kinds[0]].names)
+    rows = prepreg_rows(res)
+    assert sorted(r.name for r in rows) == sorted(want)
+    assert len(top_options(sp)) == len(want)
+    ev = res.evaluation
+    for r in rows:
+        if r.cheapest is not None:  # really the cheapest feasible board with it
+            names = sp.slot_names(res.candidates)[:, 0]
+            use = np.flatnonzero((names == r.name) & res.feasible)
+            assert ev.unit_cost[r.cheapest] == pytest.approx(ev.unit_cost[use].min())
+        else:
+            assert r.why
+
+
+def test_check_prints_every_element_with_its_unit(capsys):
+    # values of the generated 7th-order 0.1 dB Chebyshev low-pass (1 GHz, 50 ohm) from the
+    # prototype g-values of Matthaei, Young & Jones, "Microwave Filters, Impedance-Matching
+    # Networks and Coupling Structures" (1964), table 4.05-2(a): g1 = 1.1811, g2 = 1.4228,
+    # g4 = 1.5733 (quoted from memory); C = g / (2 pi fc z0), L = g z0 / (2 pi fc)
+    import math
+
+    from stackopt.cli.main import main
+
+    rc = main(["check", str(ROOT / "scenarios" / "harmonic_lowpass.yaml")])
+    out = capsys.readouterr().out
+    assert rc == 0
+    w = 2 * math.pi * 1e9
+    for name, value in (("C1", f"{1.1811 / (w * 50) * 1e12:.3g} pF"),
+                        ("L2", f"{1.4228 * 50 / w * 1e9:.3g} nH"),
+                        ("L4", f"{1.5733 * 50 / w * 1e9:.3g} nH")):
+        line = next(x for x in out.splitlines() if x.startswith(name + " "))
+        assert value in line
+    assert "esl 100 pH" in out and "q 60" in out and "trace length 0.5 mm" in out
+    assert "finished thickness within 1.44 mm to 1.76 mm" in out
+    rc = main(["check", str(ROOT / "scenarios" / "consumer_emi.yaml")])
+    out = capsys.readouterr().out
+    for name, value in (("C1", "100 pF"), ("L1", "47 nH"), ("C2", "100 pF")):
+        line = next(x for x in out.splitlines() if x.startswith(name + " "))
+        assert value in line and ("gA" in line or name == "L1")
+
+
+class _Stream:
+    def __init__(self, tty: bool) -> None:
+        self.tty, self.text = tty, ""
+
+    def isatty(self) -> bool:
+        return self.tty
+
+    def write(self, s: str) -> int:
+        self.text += s
+        return len(s)
+
+    def flush(self) -> None:
+        pass
+
+
+@pytest.mark.parametrize(("tty", "enabled", "shown"),
+                         [(True, True, True), (False, True, False), (True, False, False)])
+def test_progress_only_on_a_terminal_and_not_quiet(tty, enabled, shown):
+    from stackopt.cli.progress import Progress
+
+    s = _Stream(tty)
+    with Progress("searching", enabled, stream=s) as bar:
+        for k in range(0, 101, 10):
+            bar(k, 100)
+    assert ("searching" in s.text) == shown
+    assert (s.text != "") == shown
