@@ -15,7 +15,7 @@ import matplotlib as mpl
 import numpy as np
 from matplotlib.figure import Figure
 
-from stackopt.outputs.facts import responses, sweep_freqs, unique_picks
+from stackopt.outputs.facts import money_digits, responses, sweep_freqs, unique_picks
 from stackopt.outputs.files import atomic_write_bytes
 from stackopt.search.picks import PICKS
 
@@ -112,7 +112,7 @@ def plot_front(result) -> Figure:
     """Cost against margin of every evaluated candidate: infeasible ones faint grey,
     feasible ones faint by layer count, the Pareto front bold (marker by layer count),
     the requirement line at 0 dB margin, and the picks annotated."""
-    fig = new_figure(8.0, 5.2)
+    fig = new_figure(8.8, 5.0)
     ax = fig.add_subplot()
     ev = result.evaluation
     cur = result.problem.table.currency
@@ -134,58 +134,71 @@ def plot_front(result) -> Figure:
         if m.any():
             ax.scatter(x[m], y[m], s=9, marker=mk, color=layer_color(n), alpha=0.18,
                        linewidths=0, rasterized=True, zorder=2)
+            ax.scatter([], [], s=20, marker=mk, color=layer_color(n), alpha=0.5,
+                       label=f"feasible, {int(n)} layers ({int(m.sum()):,})")
         f = front[layers[front] == n]
         if len(f):
             ax.scatter(x[f], y[f], s=38, marker=mk, facecolor=layer_color(n),
                        edgecolor="black", linewidths=0.6, zorder=4,
                        label=f"front, {int(n)} layers ({len(f)})")
-        elif m.any():
-            ax.scatter([], [], s=20, marker=mk, color=layer_color(n), alpha=0.5,
-                       label=f"feasible, {int(n)} layers")
     if len(front) > 1:
         ax.step(x[front], y[front], where="post", color="black", lw=0.8, alpha=0.6, zorder=3)
     if result.problem.scenario.requirements:
         ax.axhline(0.0, color="#d62728", lw=1.2, ls="--", zorder=3,
                    label="requirement met above this line")
-    offsets = [(14, 22), (14, -26), (-60, 26), (-60, -30), (22, 4)]
-    for k, (i, names) in enumerate(unique_picks(result)):
+    digits = money_digits(x[[i for i, _ in unique_picks(result)]])
+    for k, (i, names) in enumerate(unique_picks(result)):  # numbered; words in the legend
         text = " / ".join(PICKS[nm].plot for nm in names)
-        ax.annotate(f"{text}\n{int(layers[i])}L, {x[i]:,.2f} {cur}", (x[i], y[i]),
-                    xytext=offsets[k % len(offsets)], textcoords="offset points", fontsize=8,
-                    color=pick_color(k), zorder=6,
-                    arrowprops={"arrowstyle": "->", "color": pick_color(k), "lw": 0.9},
-                    bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": pick_color(k),
-                          "lw": 0.6, "alpha": 0.9})
         ax.scatter([x[i]], [y[i]], s=90, facecolor="none", edgecolor=pick_color(k),
-                   linewidths=1.6, zorder=5)
+                   linewidths=1.6, zorder=5,
+                   label=f"{k + 1}: {text}, {int(layers[i])}L, {x[i]:,.{digits}f} {cur}")
+        ax.annotate(str(k + 1), (x[i], y[i]), xytext=(7, 5 + 9 * (k % 2)),
+                    textcoords="offset points", fontsize=9, fontweight="bold",
+                    color=pick_color(k), zorder=6)
     ok = np.isfinite(y) & feas if feas.any() else np.isfinite(y)
     if ok.any():  # keep the -999 dB stand-in of failed evaluations off the scale
         lo, hi = float(np.min(y[ok])), float(np.max(y[ok]))
         pad = 0.08 * max(hi - lo, 1.0)
-        ax.set_ylim(lo - pad, hi + pad)
+        ax.set_ylim(lo - pad, hi + 2.5 * pad)  # headroom for the pick numbers
+        ylo, yhi = ax.get_ylim()
+        out = int(np.sum(~((y >= ylo) & (y <= yhi))))
+        if out:
+            ax.text(0.01, 0.01, f"{out:,} candidate(s) outside the plotted range (not "
+                    "shown; all infeasible or failed)" if not np.any(feas & ~((y >= ylo) & (
+                        y <= yhi))) else f"{out:,} candidate(s) outside the plotted range",
+                    transform=ax.transAxes, fontsize=7.5, color="0.3", va="bottom")
     ax.set_xlabel(f"Cost per board ({cur}, lot of {result.problem.scenario.board.quantity:,})")
     ax.set_ylabel(ylabel + ("" if higher else ", lower is better"))
     ax.set_title(f"Cost against performance: {result.n:,} candidates evaluated, "
                  f"{len(front)} on the front")
-    ax.legend(loc="lower right" if higher else "upper right")
+    ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=7.5)
     return fig
 
 
 def _requirement_marks(ax, result, ylo: float) -> None:
+    """Each requirement where it applies: a band as a shaded band with its limit line; a
+    single frequency as a marker at the limit with a short bar up to 0 dB (the region a
+    curve must stay below), not as a band it does not have."""
     for k, r in enumerate(result.problem.scenario.requirements):
         top = -r.min_attenuation
+        first = k == 0
         if r.frequency is not None:
             f0 = r.frequency / 1e9
-            span = 0.03 * ax.get_xlim()[1]
-            lo, hi = f0 - span / 2, f0 + span / 2
+            ax.plot([f0, f0], [top, 0.0], color="#d62728", lw=2.5, alpha=0.35, zorder=1,
+                    solid_capstyle="butt")
+            ax.plot([f0], [top], marker="v", ms=8, color="#d62728", zorder=5,
+                    label="requirement: stay below the mark" if first else None)
+            where = f0
         else:
             lo, hi = r.band[0] / 1e9, r.band[1] / 1e9
-        ax.fill_between([lo, hi], [top, top], [0, 0], color="#d62728", alpha=0.12,
-                        lw=0, zorder=1, label="not allowed (requirement)" if k == 0 else None)
-        ax.plot([lo, hi], [top, top], color="#d62728", lw=2.0, zorder=5)
-        ax.annotate(f"{plain(r.label)}\n≥ {r.min_attenuation:g} dB", ((lo + hi) / 2, top),
-                    xytext=(0, 8), textcoords="offset points", ha="center", fontsize=7.5,
-                    color="#a01010", zorder=6)
+            ax.fill_between([lo, hi], [top, top], [0, 0], color="#d62728", alpha=0.12,
+                            lw=0, zorder=1,
+                            label="requirement band: stay below its line" if first else None)
+            ax.plot([lo, hi], [top, top], color="#d62728", lw=2.0, zorder=5)
+            where = (lo + hi) / 2
+        ax.annotate(f"{plain(r.label)}\n≥ {r.min_attenuation:g} dB", (where, top),
+                    xytext=(0, -10), textcoords="offset points", ha="center", va="top",
+                    fontsize=8, color="#a01010", zorder=6)
 
 
 @styled
@@ -217,5 +230,5 @@ def plot_response(result) -> Figure:
     ax.set_ylabel("|S21| (dB)")
     model = result.problem.scenario.search.via_model
     ax.set_title(f"Transmission of the picks (via model: {model})")
-    ax.legend(loc="lower left")
+    ax.legend(loc="best")
     return fig

@@ -18,8 +18,9 @@ def plot_mitigations(ladder, result) -> Figure:
     the Pareto set of two-layer combinations, the four-layer board, and the 0 dB line."""
     fig = new_figure(8.0, 5.0)
     ax = fig.add_subplot()
-    if ladder is None:
-        ax.text(0.5, 0.5, "no two-layer boards in the design space", ha="center",
+    if ladder is None or ladder.blocked:
+        ax.text(0.5, 0.5, "no two-layer boards in the design space" if ladder is None
+                else "no two-layer board can be built: no ladder to draw", ha="center",
                 va="center", transform=ax.transAxes)
         return fig
     cur = result.problem.table.currency
@@ -34,9 +35,15 @@ def plot_mitigations(ladder, result) -> Figure:
     ax.plot(x, y, color=layer_color(2), lw=1.8, zorder=4)
     ax.scatter(x, y, s=46, marker=LAYER_MARKERS[2], facecolor=layer_color(2),
                edgecolor="black", linewidths=0.6, zorder=5, label="mitigation ladder")
+    # steps of one cost (free steps) share an x: their numbers are spread sideways
+    same = np.r_[False, np.isclose(np.diff(x), 0.0, atol=1e-9 * max(1.0, float(x.max())))]
+    j = 0
     for k in range(len(x)):
-        ax.annotate(str(k), (x[k], y[k]), xytext=(6, 6 if k % 2 == 0 else -12),
-                    textcoords="offset points", fontsize=8, zorder=6)
+        j = j + 1 if same[k] else 0
+        ax.annotate(str(k), (x[k], y[k]), xytext=(6 + 12 * j, 6 if j % 2 == 0 else -12),
+                    textcoords="offset points", fontsize=8.5, zorder=6,
+                    bbox={"boxstyle": "round,pad=0.1", "fc": "white", "ec": "none",
+                          "alpha": 0.8})
     fev = ladder.four_layer_evaluation
     if fev is not None:
         ax.scatter(fev.unit_cost, fev.margin, s=70, marker=LAYER_MARKERS[4],

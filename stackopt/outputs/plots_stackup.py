@@ -6,15 +6,20 @@ import numpy as np
 from matplotlib.figure import Figure
 from matplotlib.patches import Rectangle
 
-from stackopt.outputs.facts import cost_items, unique_picks
+from stackopt.outputs.facts import cost_items, money_digits, unique_picks
 from stackopt.outputs.plots import new_figure, pick_color, plain, styled
 from stackopt.search.picks import PICKS
 
-__all__ = ["plot_stackups", "plot_costs", "plot_prepregs", "prepreg_table"]
+__all__ = ["plot_stackups", "plot_costs", "plot_prepregs", "LABEL_PT", "MAX_WIDTH_IN"]
 
 _FILL = {"copper": "#c87533", "prepreg": "#a8c686", "core": "#6f9a4e"}
 #: Copper is drawn at least this fraction of the board so that 18 um stays visible.
 _MIN_COPPER = 0.02
+#: Layer labels, pt at the figure's size. The report shows figures at most 62 rem
+#: (992 px) wide; a figure no wider than :data:`MAX_WIDTH_IN` at 110 dpi is not scaled
+#: down there, so 8.5 pt (13 px) reads as at least 9 CSS pt (12 px).
+LABEL_PT = 8.5
+MAX_WIDTH_IN = 8.8
 
 
 def _label_rows(st) -> list[tuple[str, str, float, str]]:
@@ -23,9 +28,9 @@ def _label_rows(st) -> list[tuple[str, str, float, str]]:
     for rec in st.to_records():
         t = rec["thickness_m"]
         if rec["kind"] == "copper":
-            text = f"{rec['name']}  {rec['role']}  copper {t * 1e6:.0f} um"
+            text = f"{rec['name']} {rec['role']}, {t * 1e6:.0f} um"
         else:
-            text = (f"{plain(rec['material'])}  {rec['kind']}  {t * 1e3:.3g} mm  "
+            text = (f"{plain(rec['material'])} {rec['kind']}, {t * 1e3:.3g} mm, "
                     f"Dk {rec['er']:.2f}")
         rows.append((rec["kind"], text, t, rec.get("role", "")))
     return rows
@@ -50,9 +55,9 @@ def _draw_stackup(ax, st, title: str, color: str) -> None:
     ys = np.linspace(0.0, total, n + 2)[1:-1] if n > 1 else np.array([total / 2])
     for (kind, text, _t, _r), yc, yl in zip(rows, centres, ys, strict=True):
         ax.plot([0.34, 0.40, 0.44], [yc, yl, yl], color="0.4", lw=0.5)
-        ax.text(0.45, yl, text, va="center", fontsize=7.2,
+        ax.text(0.45, yl, text, va="center", fontsize=LABEL_PT,
                 color="#7a3d10" if kind == "copper" else "black")
-    ax.set_xlim(0, 1.6)
+    ax.set_xlim(0, 1.75)
     ax.set_ylim(total * 1.02, -total * 0.02)
     ax.set_xticks([])
     ticks = np.linspace(0, total, 5)
@@ -68,20 +73,25 @@ def plot_stackups(result) -> Figure:
     board so it stays visible (hatched copper is a plane), every layer labelled with
     material, thickness and Dk."""
     picks = unique_picks(result)
-    ncol = max(len(picks), 1)
-    fig = new_figure(min(3.9 * ncol, 15.0), 5.2)
+    ncol = min(max(len(picks), 1), 2)
+    nrow = max(-(-len(picks) // ncol), 1)
+    fig = new_figure(MAX_WIDTH_IN, 4.6 * nrow)
     if not picks:
         ax = fig.add_subplot()
         ax.text(0.5, 0.5, "no feasible candidate to draw", ha="center", va="center")
         ax.set_axis_off()
         return fig
     cur = result.problem.table.currency
-    axes = fig.subplots(1, ncol, squeeze=False)[0]
-    for k, (ax, (i, names)) in enumerate(zip(axes, picks, strict=True)):
+    digits = money_digits(result.evaluation.unit_cost[[i for i, _ in picks]])
+    axes = fig.subplots(nrow, ncol, squeeze=False).ravel()
+    for ax in axes[len(picks):]:
+        ax.set_axis_off()
+    for k, (ax, (i, names)) in enumerate(zip(axes, picks, strict=False)):
         st = result.stackup(i)
         head = " / ".join(PICKS[nm].plot for nm in names)
-        title = (f"{head}\n{st.n_layers} layers, {st.thickness * 1e3:.2f} mm, "
-                 f"{result.evaluation.unit_cost[i]:,.2f} {cur}")
+        title = (f"{head} ({result.ids[i]})\n{st.n_layers} layers, "
+                 f"{st.thickness * 1e3:.2f} mm, {result.evaluation.unit_cost[i]:,.{digits}f} "
+                 f"{cur}")
         _draw_stackup(ax, st, title, pick_color(k))
     fig.suptitle("Stackups of the picks (dielectrics to scale; copper thickened to show)")
     return fig
@@ -127,20 +137,17 @@ def plot_costs(result) -> Figure:
     return fig
 
 
-def prepreg_table(result) -> list[tuple[str, float, int, float, int | None]]:
-    """Per top dielectric used by a feasible candidate: (name, Dk, best candidate, its
-    margin dB, cheapest candidate meeting the requirements or ``None``), sorted by best
-    margin (descending); from :meth:`Result.prepreg_pick`."""
-    return [(r["top_dielectric"], r["er"], r["best_index"], r["best_margin_dB"],
-             r["cheapest_meeting_index"]) for r in result.prepreg_pick()]
-
-
 @styled
 def plot_prepregs(result) -> Figure:
-    """The dielectric under the top copper: for each option used, the best margin reached
-    (left) and the cheapest stackup using it that meets the requirements (right)."""
-    rows = prepreg_table(result)
-    fig = new_figure(8.5, max(2.6, 0.32 * len(rows) + 1.6))
+    """The dielectric under the top copper, one row per stocked option that gives a board
+    that can be built (:func:`stackopt.outputs.prepregs.prepreg_rows`): the margin of the
+    cheapest board using it (left, best margin with it as a tick) and its cost per board
+    (right), with enough decimals to tell the options apart."""
+    from stackopt.outputs.facts import money_digits
+    from stackopt.outputs.prepregs import prepreg_rows
+
+    rows = [r for r in prepreg_rows(result) if r.cheapest is not None]
+    fig = new_figure(8.6, max(2.6, 0.34 * len(rows) + 1.7))
     if not rows:
         ax = fig.add_subplot()
         ax.text(0.5, 0.5, "no feasible candidate", ha="center", va="center")
@@ -148,30 +155,33 @@ def plot_prepregs(result) -> Figure:
         return fig
     ev = result.evaluation
     cur = result.problem.table.currency
+    cheap = np.array([r.cheapest for r in rows])
+    best = np.array([r.best for r in rows])
     ax1, ax2 = fig.subplots(1, 2, sharey=True)
     ys = np.arange(len(rows))
-    margin = np.array([r[3] for r in rows])
-    ax1.barh(ys, margin, color=np.where(margin >= 0, "#2ca02c", "#d62728"), height=0.6)
+    margin = ev.margin[cheap]
+    ax1.barh(ys, margin, color=np.where(margin >= 0, "#2ca02c", "#d62728"), height=0.6,
+             label="cheapest board with it")
+    ax1.scatter(ev.margin[best], ys, marker="|", s=140, color="black", zorder=4,
+                label="best margin with it")
     ax1.axvline(0, color="black", lw=0.8)
-    ax1.set_yticks(ys, [f"{plain(r[0])} ({ev.geometry.trace_height[r[2]] * 1e3:.3g} mm, "
-                        f"Dk {r[1]:.2f}, {int(ev.geometry.layers[r[2]])}L)" for r in rows])
+    ax1.set_yticks(ys, [f"{plain(r.name)} ({r.thickness * 1e3:.3g} mm, Dk {r.er:.2f})"
+                        for r in rows])
     ax1.invert_yaxis()
-    ax1.set_xlabel("Best margin reached (dB)")
-    ax1.set_title("Best margin with this top dielectric")
-    for y, r in zip(ys, rows, strict=True):
-        cheap = r[4]
-        if cheap is None:
-            ax2.text(0.02, y, "none meets the requirements", va="center", fontsize=7.5,
-                     color="#a01010", transform=ax2.get_yaxis_transform())
-            continue
-        ax2.barh([y], [ev.unit_cost[cheap]], color="#1f77b4", height=0.6)
-        ax2.annotate(f"{ev.unit_cost[cheap]:,.2f} ({int(ev.geometry.layers[cheap])}L)",
-                     (ev.unit_cost[cheap], y), xytext=(3, 0), textcoords="offset points",
-                     va="center", fontsize=7.5)
-    costs = [ev.unit_cost[r[4]] for r in rows if r[4] is not None]
-    ax2.set_xlim(0, max(costs, default=1.0) * 1.3)
+    ax1.set_xlabel("Margin (dB)")
+    ax1.set_title("Margin")
+    ax1.legend(loc="lower left", fontsize=7.5)
+    cost = ev.unit_cost[cheap]
+    digits = money_digits(cost)
+    ax2.barh(ys, cost, color=np.where(result.meets[cheap], "#1f77b4", "0.65"), height=0.6)
+    for y, i, c in zip(ys, cheap, cost, strict=True):
+        ax2.annotate(f"{c:,.{digits}f} ({int(ev.geometry.layers[i])}L"
+                     + ("" if result.meets[i] else ", misses") + ")",
+                     (c, y), xytext=(3, 0), textcoords="offset points", va="center",
+                     fontsize=7.5)
+    ax2.set_xlim(0, float(cost.max()) * 1.35)
     ax2.set_xlabel(f"Cost per board ({cur})")
-    ax2.set_title("Cheapest stackup meeting the requirements")
+    ax2.set_title("Cheapest board with it (grey: misses a requirement)")
     for ax in (ax1, ax2):
         ax.grid(axis="y", visible=False)
     return fig
