@@ -1,0 +1,80 @@
+"""The pictures tell the truth: a legend entry for every layer count drawn, a note of the
+candidates outside the plotted range, single-frequency requirements as marks (not bands),
+and stackup labels at least 9 pt where the report shows them (CSS: 1 pt = 4/3 px; the
+report's column is 62 rem = 992 px at the browsers' default 16 px)."""
+
+from __future__ import annotations
+
+import struct
+
+import numpy as np
+import pytest
+from matplotlib.collections import PolyCollection
+from outputs_support import ROOT, run
+
+from stackopt.outputs.plots import STYLE, figure_bytes, plot_front, plot_response
+from stackopt.outputs.plots_stackup import LABEL_PT, plot_prepregs, plot_stackups
+
+COLUMN_PX = 992  # 62 rem, report_render's body max-width
+
+
+def _png_width(data: bytes) -> int:
+    assert data[:8] == b"\x89PNG\r\n\x1a\n"
+    return struct.unpack(">I", data[16:20])[0]  # IHDR width (PNG specification, 11.2.2)
+
+
+def test_stackup_labels_at_least_9pt_in_the_report():
+    fig = plot_stackups(run())
+    width = _png_width(figure_bytes(fig, "png"))
+    shown = min(1.0, COLUMN_PX / width)  # the browser scales a wider image down
+    px = LABEL_PT * STYLE["savefig.dpi"] / 72.0 * shown
+    assert px >= 9 * 4 / 3
+    sizes = [t.get_fontsize() for ax in fig.axes for t in ax.texts]
+    assert sizes and min(sizes) >= LABEL_PT
+
+
+def test_front_legend_names_every_layer_count_and_the_clipped():
+    res = run()
+    fig = plot_front(res)
+    ax = fig.axes[0]
+    labels = [t.get_text() for t in ax.get_legend().get_texts()]
+    feas = res.feasible
+    for n in np.unique(res.evaluation.geometry.layers[feas]):
+        assert any(f"feasible, {n} layers" in lab for lab in labels), (n, labels)
+    lo, hi = ax.get_ylim()
+    y = res.evaluation.margin
+    out = int(np.sum(~((y >= lo) & (y <= hi))))
+    notes = [t.get_text() for t in ax.texts if "outside the plotted range" in t.get_text()]
+    if out:
+        assert notes and notes[0].startswith(f"{out:,} candidate")
+    else:
+        assert not notes
+
+
+def test_single_frequency_requirement_is_a_mark_not_a_band():
+    res = run()  # two single-frequency requirements
+    ax = plot_response(res).axes[0]
+    assert not [c for c in ax.collections if isinstance(c, PolyCollection)]
+    freqs = {round(r.frequency / 1e9, 9) for r in res.problem.scenario.requirements}
+    marks = {round(float(line.get_xdata()[0]), 9) for line in ax.lines
+             if line.get_marker() == "v"}
+    assert marks == freqs
+    band = run(ROOT / "scenarios" / "consumer_emi.yaml")  # one band requirement
+    ax = plot_response(band).axes[0]
+    assert [c for c in ax.collections if isinstance(c, PolyCollection)]
+
+
+@pytest.mark.parametrize("fn", [plot_front, plot_response, plot_stackups, plot_prepregs])
+def test_figures_fit_the_report_column(fn):
+    assert _png_width(figure_bytes(fn(run()), "png")) <= COLUMN_PX
+
+
+def test_prepreg_chart_costs_tell_the_options_apart():
+    res = run()
+    fig = plot_prepregs(res)
+    texts = [t.get_text().split(" (")[0] for t in fig.axes[1].texts]
+    from stackopt.outputs.prepregs import prepreg_rows
+
+    rows = [r for r in prepreg_rows(res) if r.cheapest is not None]
+    costs = {round(float(res.evaluation.unit_cost[r.cheapest]), 9) for r in rows}
+    assert len(set(texts)) == len(costs)  # distinct costs never print alike
