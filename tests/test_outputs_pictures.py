@@ -46,7 +46,7 @@ def test_front_legend_names_every_layer_count_and_the_clipped():
     out = int(np.sum(~((y >= lo) & (y <= hi))))
     notes = [t.get_text() for t in ax.texts if "outside the plotted range" in t.get_text()]
     if out:
-        assert notes and notes[0].startswith(f"{out:,} candidate")
+        assert notes and notes[0].startswith(f"{out:,} candidate")  # the count drawn
     else:
         assert not notes
 

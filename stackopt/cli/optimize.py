@@ -195,8 +195,9 @@ def say_result(result, say) -> None:
         say(table(prows, head))
         left = sum(r.cheapest is None for r in rows_p)
         if left:
-            say(f"  {left} more stocked top dielectric(s) give no board that can be built "
-                "(the report says why)")
+            say(f"  {left} more stocked top "
+                + ("dielectric gives" if left == 1 else "dielectrics give")
+                + " no board that can be built (the report says why)")
         say("  " + prepreg_sentence(result, rows_p))
     if not result.feasible.any():
         say("  No candidate satisfies the fab's and the scenario's constraints. Nearest:")

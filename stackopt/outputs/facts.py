@@ -14,7 +14,7 @@ from stackopt.search.picks import PICKS
 
 __all__ = ["RECOMMENDED", "unique_picks", "selected_index",
            "cost_items", "sweep_freqs", "responses", "passband_losses", "passband_summary",
-           "ground_figures", "top_dielectric", "shortfalls", "money", "money_digits", "mm",
+           "ground_figures", "plural", "top_dielectric", "shortfalls", "money", "money_digits", "mm",
            "db"]
 
 def money(x: float | None, currency: str, digits: int = 2) -> str:
@@ -22,6 +22,11 @@ def money(x: float | None, currency: str, digits: int = 2) -> str:
     if x is None or not math.isfinite(x):
         return "n/a"
     return f"{x:,.{digits}f} {currency}"
+
+
+def plural(n: int, word: str, many: str | None = None) -> str:
+    """``"1 via"``, ``"3 vias"`` (``many``: an irregular plural)."""
+    return f"{n:,} {word if n == 1 else (many or word + 's')}"
 
 
 def money_digits(values, floor: int = 2, most: int = 4) -> int:

@@ -15,7 +15,7 @@ import matplotlib as mpl
 import numpy as np
 from matplotlib.figure import Figure
 
-from stackopt.outputs.facts import money_digits, responses, sweep_freqs, unique_picks
+from stackopt.outputs.facts import money_digits, plural, responses, sweep_freqs, unique_picks
 from stackopt.outputs.files import atomic_write_bytes
 from stackopt.search.picks import PICKS
 
@@ -163,9 +163,10 @@ def plot_front(result) -> Figure:
         ylo, yhi = ax.get_ylim()
         out = int(np.sum(~((y >= ylo) & (y <= yhi))))
         if out:
-            ax.text(0.01, 0.01, f"{out:,} candidate(s) outside the plotted range (not "
-                    "shown; all infeasible or failed)" if not np.any(feas & ~((y >= ylo) & (
-                        y <= yhi))) else f"{out:,} candidate(s) outside the plotted range",
+            inside = (y >= ylo) & (y <= yhi)
+            what = plural(out, "candidate")
+            ax.text(0.01, 0.01, f"{what} outside the plotted range, not shown"
+                    + ("" if np.any(feas & ~inside) else " (all infeasible or failed)"),
                     transform=ax.transAxes, fontsize=7.5, color="0.3", va="bottom")
     ax.set_xlabel(f"Cost per board ({cur}, lot of {result.problem.scenario.board.quantity:,})")
     ax.set_ylabel(ylabel + ("" if higher else ", lower is better"))

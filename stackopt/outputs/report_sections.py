@@ -8,7 +8,7 @@ import math
 
 from stackopt.model.mitigations import MITIGATIONS
 from stackopt.outputs.case import four_layer_case
-from stackopt.outputs.facts import db, mm, selected_index, unique_picks
+from stackopt.outputs.facts import db, mm, plural, selected_index, unique_picks
 from stackopt.outputs.report_calibration import calibration_note
 from stackopt.outputs.report_lines import WIDE_TRACE, impedance_table, layer_lines, line_risks
 from stackopt.search.picks import PICKS
@@ -122,9 +122,9 @@ def stackup_table(result) -> list[tuple]:
         ("p", f"Finished thickness {mm(st.thickness)} ± "
               f"{tab.capabilities.thickness_tolerance * 100:.0f} % (over copper, before "
               f"mask and plating); drill {mm(ev.geometry.drill[sel])}; "
-              f"{int(ev.geometry.vias[sel])} via(s) per ground connection; mitigations: "
-              f"{', '.join(mit) or 'none'}. Widths by field solve (table below): ask the "
-              "fab to adjust them to its materials."),
+              f"{plural(int(ev.geometry.vias[sel]), 'via')} per ground connection; "
+              f"mitigations: {', '.join(mit) or 'none'}. Widths by field solve (table "
+              "below): ask the fab to adjust them to its materials."),
         *impedance_table(result, sel),
     ]
 

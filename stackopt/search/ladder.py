@@ -218,7 +218,8 @@ def _words(space: Space, a: np.ndarray | None, b: np.ndarray) -> str:
         return (("plain two-layer board" if plain else
                  "simplest feasible two-layer board (no plain one is feasible)")
                 + f": {t * 1e3:.3g} mm core ({(t + 2 * cu) * 1e3:.3g} mm "
-                f"finished), {space.vias[int(b[3 + s])]} via(s) per ground connection, "
+                f"finished), {space.vias[int(b[3 + s])]} "
+                f"{'via' if space.vias[int(b[3 + s])] == 1 else 'vias'} per ground connection, "
                 f"drill {space.drills[int(b[2 + s])] * 1e3:.3g} mm"
                 + (", " + ", ".join(mits) if mits else ""))
     out = []
