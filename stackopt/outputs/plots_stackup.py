@@ -169,8 +169,8 @@ def plot_prepregs(result) -> Figure:
                         for r in rows])
     ax1.invert_yaxis()
     ax1.set_xlabel("Margin (dB)")
-    ax1.set_title("Margin")
-    ax1.legend(loc="lower left", fontsize=7.5)
+    ax1.set_title("Margin of the cheapest board with it")
+    fig.legend(loc="outside lower center", ncols=2, fontsize=7.5)
     cost = ev.unit_cost[cheap]
     digits = money_digits(cost)
     ax2.barh(ys, cost, color=np.where(result.meets[cheap], "#1f77b4", "0.65"), height=0.6)
@@ -181,7 +181,7 @@ def plot_prepregs(result) -> Figure:
                      fontsize=7.5)
     ax2.set_xlim(0, float(cost.max()) * 1.35)
     ax2.set_xlabel(f"Cost per board ({cur})")
-    ax2.set_title("Cheapest board with it (grey: misses a requirement)")
+    ax2.set_title("Cost of that board (grey: misses)")
     for ax in (ax1, ax2):
         ax.grid(axis="y", visible=False)
     return fig
