@@ -88,6 +88,14 @@ SENTENCES: dict[str, Sentence] = {
         "dielectric",
         "the {z} line '{name}' had another dielectric under it",
         "the {z} line '{name}' reachable with a width between {limit}"),
+    "line_too_narrow": Sentence(
+        "the {z} line '{name}' would be {value} wide; the scenario asks for at least {limit}",
+        "the {z} line '{name}' may be {value} wide (minimum {limit})",
+        "the {z} line '{name}' at least {limit} wide (the scenario's minimum)"),
+    "line_no_layer": Sentence(
+        "the board has no layer for the {z} line '{name}' (it asks for {limit})",
+        "the board had a layer for the {z} line '{name}' ({limit})",
+        "a layer for the {z} line '{name}' ({limit})"),
     "not_offered": Sentence(
         "the board needs {feature}, which the fab does not offer",
         "the fab offered {feature}",
@@ -109,6 +117,8 @@ FEATURE_WORDS = {
     "non_standard_thickness": "a non-standard finished thickness",
 }
 
+#: ``line_<name>_<kind>``: a controlled-impedance line's own constraints.
+_LINE_CODE = re.compile(r"line_(.+)_(too_wide|too_narrow|unreachable|no_layer)")
 _MAX = {"max_layers", "max_aspect_ratio", "max_copper", "max_thickness"}
 _MIN = {"min_trace", "min_space", "min_dielectric", "min_drill"}
 
@@ -116,7 +126,7 @@ _MIN = {"min_trace", "min_space", "min_dielectric", "min_drill"}
 def family(code: str) -> str:
     """The :data:`SENTENCES` key of a violation code (``line_rf50_too_wide`` ->
     ``line_too_wide``, ``via_in_pad_not_offered`` -> ``not_offered``)."""
-    m = re.fullmatch(r"line_(.+)_(too_wide|unreachable)", code)
+    m = _LINE_CODE.fullmatch(code)
     if m:
         return f"line_{m.group(2)}"
     if code.endswith("_not_offered"):
@@ -136,7 +146,7 @@ def _limit(problem, code: str) -> float | None:
 
 
 def _line(problem, code: str):
-    name = re.fullmatch(r"line_(.+)_(too_wide|unreachable)", code).group(1)  # type: ignore
+    name = _LINE_CODE.fullmatch(code).group(1)  # type: ignore[union-attr]
     return next(ln for ln in problem.scenario.lines if ln.name == name), name
 
 
@@ -166,15 +176,21 @@ def figures(problem, ev, i: int, code: str, amount: float) -> dict[str, str]:
               f"{fq(t - hi, 'length')} too thick" if t > hi else "inside")
         return {"value": fq(t, "length"), "by": by,
                 "limit": f"{fq(lo, 'length')} to {fq(hi, 'length')}"}
-    if fam in ("line_too_wide", "line_unreachable"):
+    if fam.startswith("line_"):
         ln, name = _line(problem, code)
-        out = {"name": name, "z": f"{ln.impedance:g} ohm"}
-        if fam == "line_too_wide":
+        pair = getattr(ln, "differential", None) is not None
+        z = getattr(ln, "differential", None) if pair else ln.impedance
+        out = {"name": name, "z": f"{z:g} ohm" + (" differential" if pair else "")}
+        if fam in ("line_too_wide", "line_too_narrow"):
+            lim = ln.max_width if fam == "line_too_wide" else ln.min_width
             j = [x.name for x in problem.scenario.lines].index(name)
             w = (float(ev.widths[i, j]) if ev is not None
-                 else ln.max_width * (1 + amount))
-            out.update(value=fq(w, "length"), limit=fq(ln.max_width, "length"),
-                       by=fq(w - ln.max_width, "length"))
+                 else lim * (1 + amount if fam == "line_too_wide" else 1 - amount))
+            out.update(value=fq(w, "length"), limit=fq(lim, "length"),
+                       by=fq(abs(w - lim), "length"))
+        elif fam == "line_no_layer":
+            out["limit"] = (f"layer {ln.layer}" if getattr(ln, "layer", None)
+                            else "its default layer")
         else:
             from stackopt.search.problem import WIDTH_RANGE
 
@@ -196,7 +212,7 @@ def code_sentence(problem, ev, i: int, code: str, amount: float,
         return f"{code.replace('_', ' ')} ({amount:+.3g})"
     try:
         return getattr(entry, part).format(**figures(problem, ev, i, code, amount))
-    except (KeyError, StopIteration, AttributeError, ValueError):
+    except (KeyError, StopIteration, AttributeError, ValueError, TypeError):
         return getattr(entry, part).split("{")[0].strip() or code.replace("_", " ")
 
 
