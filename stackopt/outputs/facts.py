@@ -14,8 +14,9 @@ from stackopt.search.picks import PICKS
 
 __all__ = ["RECOMMENDED", "unique_picks", "selected_index",
            "cost_items", "sweep_freqs", "responses", "passband_losses", "passband_summary",
-           "ground_figures", "plural", "top_dielectric", "shortfalls", "money", "money_digits", "mm",
-           "db"]
+           "ground_figures", "plural", "top_dielectric", "shortfalls", "money",
+           "money_digits", "mm", "db"]
+
 
 def money(x: float | None, currency: str, digits: int = 2) -> str:
     """``1,234.50 EUR``; ``n/a`` for ``None`` or a non-finite value."""
