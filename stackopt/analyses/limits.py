@@ -111,14 +111,16 @@ def limit_sentence(d: dict, pair: tuple[str, str] | None = None) -> str:
                 f"the {req} ({a['required']:.0f} dB required): the parts' own values and "
                 "inductance limit it and no stackup can fix that — change the parts or the "
                 "circuit.")
-    if mech == "none" and a["full"] > a["ideal"]:
-        return (f"Nothing limits this board at the {req}: it reaches {a['full']:.1f} dB, "
-                f"more than the {a['ideal']:.1f} dB of ideal grounds (the ground inductance "
-                "tunes the shunt parts' series resonance towards this frequency).")
+    if mech == "none" and d["margin_dB"] > d["ideal_ground_margin_dB"]:
+        return (f"Nothing limits this board: its worst margin, {d['margin_dB']:+.1f} dB (at "
+                f"the {req}), is more than the {d['ideal_ground_margin_dB']:+.1f} dB of ideal "
+                "grounds (the ground inductance tunes the shunt parts' series resonance "
+                "towards a requirement).")
     if mech == "none":
-        return (f"Nothing limits this board at the {req}: the grounds cost less than "
-                f"{NONE_DB:.0f} dB ({a['full']:.1f} dB here, {a['ideal']:.1f} dB with ideal "
-                "grounds).")
+        return (f"Nothing limits this board: its worst margin, {d['margin_dB']:+.1f} dB (at "
+                f"the {req}), is within {NONE_DB:.0f} dB of the "
+                f"{d['ideal_ground_margin_dB']:+.1f} dB the circuit reaches with ideal "
+                "grounds.")
     if mech == "ground_coupling":
         who = (f"the ground vias of {pair[0]} and {pair[1]}" if pair
                else "the ground connections")

@@ -17,6 +17,7 @@ from stackopt.analyses.limits import pick_limits
 from stackopt.analyses.tolerances import build_draws, monte_carlo
 from stackopt.circuit.metrics import attenuation_db
 from stackopt.physics.inductance import VIA_MODELS
+from stackopt.search.phenotype import batch_key, unique_rows
 from stackopt.search.problem import Problem
 from stackopt.search.results import Result
 from stackopt.search.space import Geometry
@@ -25,6 +26,9 @@ __all__ = ["margin_under", "margins_by_model", "robust_margin", "analyse", "ROBU
 
 #: Candidates sampled per Monte Carlo batch while looking for the cheapest robust one.
 ROBUST_CHUNK = 32
+#: At most this many distinct ground batches are sampled in that search (bounds the time
+#: when many boards meet under every model but few reach the yield target).
+MAX_ROBUST_SAMPLED = 2048
 
 
 def margin_under(problem: Problem, g: Geometry, model: str) -> np.ndarray:
@@ -84,6 +88,11 @@ def _cheapest_robust(r: Result, sampler: _Sampler) -> int | None:
     idx = np.flatnonzero(r.robust_meets)
     order = idx[np.lexsort((idx, r.complexity[idx], -r.robust_margin[idx],
                             r.evaluation.unit_cost[idx]))]
+    if len(order):  # the yield depends only on the circuit's input: one per ground batch
+        p = r.problem
+        first, _ = unique_rows(batch_key(p.ground_batch(p.space.geometry(
+            r.candidates.take(order)))))
+        order = order[np.sort(first)][:MAX_ROBUST_SAMPLED]  # cheapest of each, cost order
     for i0 in range(0, len(order), ROBUST_CHUNK):  # batches, usually only the first
         chunk = order[i0:i0 + ROBUST_CHUNK]
         sampler.sample(chunk)
