@@ -17,8 +17,6 @@ def optimize(*args: Any, **kwargs: Any) -> Any:
 
 
 def mitigation_ladder(result: Any) -> Any:
-    """The two-layer mitigation ladder of a search result; see
-    :func:`stackopt.search.ladder.mitigation_ladder`."""
-    from stackopt.search.ladder import mitigation_ladder as _ladder
-
-    return _ladder(result)
+    """The two-layer mitigation ladder of a search result (``result.ladder``, computed once
+    per result); see :func:`stackopt.search.ladder.mitigation_ladder`."""
+    return result.ladder

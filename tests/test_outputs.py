@@ -38,9 +38,12 @@ PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG specification (ISO/IEC 15948), secti
 def test_every_file_written(demo_out):
     out, paths = demo_out
     expected = [f for f in FILES if f != "quantities.png"]  # only with a quantity sweep
-    assert [p.name for p in paths] == expected
+    assert [p.name for p in paths if p.parent == out] == expected
+    stackups = [p for p in paths if p.parent == out / "stackups"]
+    assert stackups and all(p.suffix == ".yaml" for p in stackups)
+    assert len(stackups) + len(expected) == len(paths)
     # no staging folder or temp file left; the manifest says what stackopt wrote
-    assert sorted(os.listdir(out)) == sorted([*expected, MANIFEST])
+    assert sorted(os.listdir(out)) == sorted([*expected, MANIFEST, "stackups"])
     assert not [p for p in os.listdir(out.parent) if ".stackopt-" in p]
     for p in paths:
         assert p.stat().st_size > 0

@@ -94,12 +94,10 @@ def test_every_mitigation_has_its_words_in_every_output():
     for k, m in enumerate(sp.mitigations):
         assert MITIGATIONS[m].words and MITIGATIONS[m].label
         off = np.zeros((1, len(sp.mitigations)), dtype=bool)
-        on = off.copy()
-        on[0, k] = True
         z = np.zeros(1, dtype=np.int64)
         slot = np.zeros((1, sp.n_slots), dtype=np.int64)
-        a = Candidates(z, slot, z, z, z, off).matrix()[0]
-        b = Candidates(z, slot, z, z, z, on).matrix()[0]
+        a = Candidates(z, slot, z, z, z, off)
+        b = a.with_switch(k)
         assert _words(sp, a, b) == MITIGATIONS[m].words  # the ladder's step
         assert MITIGATIONS[m].words in _words(sp, None, b)  # the ladder's start
 

@@ -36,6 +36,7 @@ def run(args: argparse.Namespace) -> int:
     from stackopt.inputs.stackup_file import load_selected
     from stackopt.outputs.reasons import because, sentence, would_work_if
     from stackopt.search.problem import Problem
+    from stackopt.search.results import metrics_record
     from stackopt.search.single import evaluate_stackup
 
     inp = load_inputs(args.scenario, args.costs, args.calibration)
@@ -50,25 +51,17 @@ def run(args: argparse.Namespace) -> int:
     grounds = [{k: (v if k == "name" else float(v[0])) for k, v in row.items()}
                for row in ground_breakdown(problem.compiled, gb, sc.search.via_model)]
     guard = float(ground_parts(problem.compiled, gb, sc.search.via_model).guard[0])
+    m = metrics_record(problem, ev, 0)
     out: dict[str, Any] = {
-        "layers": int(g.layers[0]), "thickness_m": float(g.thickness[0]),
-        "ground_plane_depth_m": float(g.via_height[0]),
-        "ground_inductance_H": float(ev.inductance[0]),
+        **{k: m.pop(k) for k in ("layers", "thickness_m", "ground_plane_depth_m",
+                                 "ground_inductance_H")},
         "grounds": grounds,
         "mutual_guard_active": guard < 1.0,
         "placement_notes": list(problem.placed[1]),
-        "attenuation_dB": {r.key: float(ev.attenuation[0, k])
-                           for k, r in enumerate(sc.requirements)},
-        "margin_dB": float(ev.margin[0]),
-        "meets_requirements": bool(ev.feasible[0] and ev.margin[0] >= 0),
-        "line_widths_m": {ln.name: (None if ev.widths[0, j] != ev.widths[0, j]
-                                    else float(ev.widths[0, j]))
-                          for j, ln in enumerate(sc.lines)},
+        **m,
         "lines": [r.to_summary() for r in line_rows(problem, g, 0, ev.widths[0])],
-        "unit_cost": float(ev.unit_cost[0]), "lot_cost": float(ev.lot_cost[0]),
-        "lead_time_days": float(ev.lead_time_days[0]), "currency": inp.table.currency,
+        "currency": inp.table.currency,
         "cost_items": {k: float(v[0]) for k, v in ev.cost_items.items()},
-        "violations": ev.violated(0),
         "via_model": sc.search.via_model,
         "calibration": (None if sc.search.calibration is None
                         else sc.search.calibration.echo()),  # type: ignore[union-attr]

@@ -28,6 +28,7 @@ from stackopt.model.mitigations import MITIGATIONS, mitigation_error
 from stackopt.physics.inductance import DEFAULT_VIA_MODEL, VIA_MODELS
 from stackopt.physics.linetypes import PAIR_TYPES, STRIPLINE_TYPES, LineType
 from stackopt.plausible import SEED_MAX
+from stackopt.units import COPPER_M_PER_OZ
 
 __all__ = [
     "Board",
@@ -265,7 +266,7 @@ class SpaceSpec(BaseModel):
     layers: tuple[Count, ...] = (2, 4, 6)
     thickness: ThicknessWindow | None = None
     symmetric: bool = True
-    copper: tuple[PositiveLength, ...] = (34.3e-6,)
+    copper: tuple[PositiveLength, ...] = (COPPER_M_PER_OZ,)
     drills: tuple[PositiveLength, ...] = (0.3e-3,)
     vias_per_ground: tuple[Count, ...] = (1,)
     max_plies: Count = Field(default=3, ge=1, le=4,

@@ -12,6 +12,7 @@ from stackopt.outputs.exports import (
     front_csv,
     mitigations_csv,
     selected_yaml,
+    stackup_files,
     summary_json,
 )
 from stackopt.outputs.facts import passband_summary, selected_index, sweep_freqs
@@ -54,9 +55,8 @@ def render_all(result, extra_summary: dict | None = None, sweep=None) -> dict[st
     from stackopt.outputs.plots_ladder import plot_mitigations
     from stackopt.outputs.plots_stackup import plot_costs, plot_prepregs, plot_stackups
     from stackopt.outputs.report import IMAGE_FILES, report_html, report_markdown
-    from stackopt.search.ladder import mitigation_ladder
 
-    ladder = mitigation_ladder(result)
+    ladder = result.ladder
     extra = {**(extra_summary or {}),
              "ideal_ground": ideal_ground(result.problem).to_summary(),
              "four_layer_case": four_layer_case(result).to_summary(result),
@@ -106,7 +106,9 @@ def render_all(result, extra_summary: dict | None = None, sweep=None) -> dict[st
     i = selected_index(result)
     if i is not None:
         out["selected.s2p"] = _touchstone(result, i).encode("ascii")
-    return {name: out[name] for name in FILES if name in out}
+    files = {name: out[name] for name in FILES if name in out}
+    files.update((k, v.encode("utf-8")) for k, v in stackup_files(result).items())
+    return files
 
 
 def write_all(result, out_dir: str | Path, force: bool = False,

@@ -18,7 +18,7 @@ import yaml
 from stackopt.outputs.facts import selected_index
 from stackopt.outputs.report_sections import OZ
 
-__all__ = ["candidates_csv", "front_csv", "mitigations_csv", "selected_yaml",
+__all__ = ["candidates_csv", "front_csv", "mitigations_csv", "selected_yaml", "stackup_files",
            "selected_document",
            "summary_json", "csv_safe", "FORMAT", "json_clean"]
 
@@ -177,6 +177,23 @@ def selected_yaml(result, i: int | None = None) -> str:
     :func:`selected_document`)."""
     return _HEADER + yaml.safe_dump(selected_document(result, i), sort_keys=False,
                                     allow_unicode=True, width=100)
+
+
+def stackup_files(result) -> dict[str, str]:
+    """``stackups/<ID>.yaml`` for every candidate on the front and every pick, in the
+    stackup file format that ``stackopt eval --stackup`` reads, each naming its
+    ``candidate: <ID>`` (by id, front first by increasing cost, then the picks)."""
+    idx = [int(i) for i in result.front_order]
+    idx += [int(i) for i in result.picks.values() if i is not None and int(i) not in idx]
+    out = {}
+    for i in idx:  # the front and the picks: tens of files at most
+        cid = result.ids[i]
+        head = (f"# Stackup of candidate {cid} from stackopt. ESTIMATE: confirm with the fab "
+                "before release.\n# Layers top (component side) to bottom. Read back with\n"
+                f"#   stackopt eval SCENARIO --stackup stackups/{cid}.yaml\n")
+        out[f"stackups/{cid}.yaml"] = head + yaml.safe_dump(
+            selected_document(result, i), sort_keys=False, allow_unicode=True, width=100)
+    return out
 
 
 def json_clean(x: object) -> object:

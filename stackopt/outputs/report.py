@@ -248,9 +248,8 @@ def report_document(result, sweep=None) -> list[tuple]:
     blocks.append(("img", "pareto", "Cost against margin of every candidate evaluated; the "
                    "Pareto front is bold, the picks are ringed."))
     blocks.append(("note", method_line(result)))
-    from stackopt.search.ladder import mitigation_ladder
 
-    blocks += ladder_section(result, mitigation_ladder(result))
+    blocks += ladder_section(result, result.ladder)
     blocks += [("h2", "Risks"), ("ul", risks(result))]
     blocks += stackup_table(result)
     blocks += [("h2", "The picks"), picks_table(result),

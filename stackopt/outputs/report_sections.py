@@ -12,13 +12,14 @@ from stackopt.outputs.facts import db, mm, plural, selected_index, unique_picks
 from stackopt.outputs.report_calibration import calibration_note
 from stackopt.outputs.report_lines import WIDE_TRACE, impedance_table, layer_lines, line_risks
 from stackopt.search.picks import PICKS
+from stackopt.units import COPPER_M_PER_OZ
 
 __all__ = ["risks", "stackup_table", "spread_table", "assumptions", "cautions",
            "method_line", "OZ", "WIDE_TRACE", "THIN_DIELECTRIC", "SAFETY_CAUTION"]
 
-#: One ounce of copper foil per square foot, as finished thickness, m (34.3 um; the
-#: figure the cost tables use; common practice, no source).
-OZ = 34.3e-6
+#: One ounce of copper foil per square foot, as finished thickness, m (the one constant:
+#: :data:`stackopt.units.COPPER_M_PER_OZ`).
+OZ = COPPER_M_PER_OZ
 #: Dielectrics thinner than this get the safety-insulation caution spelled out (0.4 mm is
 #: a distance-through-insulation figure often met in safety standards; from memory).
 THIN_DIELECTRIC = 0.4e-3

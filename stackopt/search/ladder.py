@@ -34,7 +34,6 @@ from __future__ import annotations
 
 import itertools
 import math
-import weakref
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -54,7 +53,6 @@ __all__ = ["Ladder", "mitigation_ladder", "build_ladder", "climb", "plain_board"
 ENUMERATE_LIMIT = 200_000
 _EPS_DB = 1e-6
 _NOMINAL = 1.6e-3  # the usual two-layer thickness (common practice, no source)
-_CACHE: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
 
 
 def _empty(space: Space) -> Candidates:
@@ -137,35 +135,32 @@ def nearest_alternatives(ev: Evaluation, k: int = 3) -> list[int]:
 def _neighbours(problem: Problem, c: Candidates) -> tuple[Candidates, list[str]]:
     """Every single change from the one board ``c`` (see the module docstring)."""
     sp = problem.space
-    m = c.matrix()[0]
-    s = sp.n_slots
-    cu_col, dr_col, v_col, mit_col = 1 + s, 2 + s, 3 + s, 4 + s
-    rows, kinds = [], []
+    boards: list[Candidates] = []
+    kinds: list[str] = []
 
-    def add(col: int, value: int, kind: str) -> None:
-        r = m.copy()
-        r[col] = value
-        rows.append(r)
+    def add(board: Candidates, kind: str) -> None:
+        boards.append(board)
         kinds.append(kind)
 
-    for values, col, kind in ((sp.vias, v_col, "vias"), (sp.drills, dr_col, "drill")):
+    for values, name in ((sp.vias, "vias"), (sp.drills, "drill")):
         vals = np.asarray(values, dtype=float)
-        larger = np.flatnonzero(vals > vals[m[col]])
+        now = int(getattr(c, name)[0])
+        larger = np.flatnonzero(vals > vals[now])
         if len(larger):
-            add(col, int(larger[np.argmin(vals[larger])]), kind)
+            add(c.replace(**{name: np.array([int(larger[np.argmin(vals[larger])])])}), name)
     core = sp.options["core"]
-    cu = sp.copper[int(m[cu_col])]
+    cu = sp.copper[int(c.copper[0])]
     win = problem.scenario.space.thickness
     lo, hi = win.bounds if win is not None else (0.0, math.inf)
-    for j in np.flatnonzero(core.thickness < core.thickness[m[1]]):
+    for j in np.flatnonzero(core.thickness < core.thickness[c.slot[0, 0]]):
         if lo <= core.thickness[j] + 2 * cu <= hi:
-            add(1, int(j), "thinner")
+            add(c.with_slot(0, int(j)), "thinner")
     for k, name in enumerate(sp.mitigations):
-        if not m[mit_col + k]:
-            add(mit_col + k, 1, name)
-    if not rows:
+        if not c.mit[0, k]:
+            add(c.with_switch(k), name)
+    if not boards:
         return _empty(sp), []
-    return Candidates.from_matrix(np.array(rows), s), kinds
+    return Candidates.concat(boards), kinds
 
 
 def _pick(cost0: float, margin0: float, ev: Evaluation) -> int | None:
@@ -206,35 +201,36 @@ def climb(problem: Problem, start: Candidates, max_steps: int = 64
     return Candidates.concat(path), kinds
 
 
-def _words(space: Space, a: np.ndarray | None, b: np.ndarray) -> str:
-    """What changes from board row ``a`` to ``b`` (matrix rows), in words."""
-    s = space.n_slots
+def _words(space: Space, a: Candidates | None, b: Candidates) -> str:
+    """What changes from the one board ``a`` to the one board ``b``, in words."""
     core = space.options["core"]
-    t = core.thickness[b[1]]
-    cu = space.copper[int(b[1 + s])]
+    t = core.thickness[b.slot[0, 0]]
+    cu = space.copper[int(b.copper[0])]
+    vias = space.vias[int(b.vias[0])]
+    drill = space.drills[int(b.drill[0])]
     if a is None:
-        mits = [MITIGATIONS[m].words for k, m in enumerate(space.mitigations) if b[4 + s + k]]
-        plain = not mits and space.vias[int(b[3 + s])] == min(space.vias)
+        mits = [MITIGATIONS[m].words for k, m in enumerate(space.mitigations) if b.mit[0, k]]
+        plain = not mits and vias == min(space.vias)
         return (("plain two-layer board" if plain else
                  "simplest feasible two-layer board (no plain one is feasible)")
                 + f": {t * 1e3:.3g} mm core ({(t + 2 * cu) * 1e3:.3g} mm "
-                f"finished), {space.vias[int(b[3 + s])]} "
-                f"{'via' if space.vias[int(b[3 + s])] == 1 else 'vias'} per ground connection, "
-                f"drill {space.drills[int(b[2 + s])] * 1e3:.3g} mm"
+                f"finished), {vias} {'via' if vias == 1 else 'vias'} per ground connection, "
+                f"drill {drill * 1e3:.3g} mm"
                 + (", " + ", ".join(mits) if mits else ""))
     out = []
-    if a[1] != b[1]:
-        out.append(f"{'thinner' if t < core.thickness[a[1]] else 'thicker'} core "
+    if a.slot[0, 0] != b.slot[0, 0]:
+        out.append(f"{'thinner' if t < core.thickness[a.slot[0, 0]] else 'thicker'} core "
                    f"{t * 1e3:.3g} mm ({(t + 2 * cu) * 1e3:.3g} mm finished)")
-    if a[1 + s] != b[1 + s]:
+    if a.copper[0] != b.copper[0]:
         out.append(f"copper {cu * 1e6:.0f} um")
-    if a[2 + s] != b[2 + s]:
-        out.append(f"drill {space.drills[int(b[2 + s])] * 1e3:.3g} mm")
-    if a[3 + s] != b[3 + s]:
-        out.append(f"{space.vias[int(b[3 + s])]} vias per ground connection")
+    if a.drill[0] != b.drill[0]:
+        out.append(f"drill {drill * 1e3:.3g} mm")
+    if a.vias[0] != b.vias[0]:
+        out.append(f"{vias} vias per ground connection")
     for k, m in enumerate(space.mitigations):
-        if a[4 + s + k] != b[4 + s + k]:
-            out.append(MITIGATIONS[m].words if b[4 + s + k] else f"no {MITIGATIONS[m].words}")
+        if a.mit[0, k] != b.mit[0, k]:
+            w = MITIGATIONS[m].words
+            out.append(w if b.mit[0, k] else f"no {w}")
     return ", ".join(out) or "no change"
 
 
@@ -402,8 +398,9 @@ def build_ladder(problem: Problem, pool: Candidates | None = None, *, four=None,
         steps = Candidates.concat([steps, pool.take(np.array([j]))])
         kinds = [*kinds, "combination"]
         ev_s = problem.evaluate(steps)
-    m = steps.matrix()
-    changes = tuple(_words(sp, None if k == 0 else m[k - 1], m[k]) for k in range(len(m)))
+    one = [steps.take(np.array([k])) for k in range(len(steps))]  # a handful of steps
+    changes = tuple(_words(sp, None if k == 0 else one[k - 1], one[k])
+                    for k in range(len(one)))
     par = pool.take(_pareto(problem, pool, ev))
     four_ev = problem.evaluate(four) if four is not None else None
     return Ladder(problem, steps, ev_s, tuple(kinds), changes, par, problem.evaluate(par),
@@ -412,9 +409,8 @@ def build_ladder(problem: Problem, pool: Candidates | None = None, *, four=None,
 
 def mitigation_ladder(result) -> Ladder | None:
     """The mitigation ladder of a search :class:`~stackopt.search.results.Result`, or
-    ``None`` when its design space has no two-layer boards. Computed once per result."""
-    if result in _CACHE:
-        return _CACHE[result]
+    ``None`` when its design space has no two-layer boards. Computed afresh: use
+    ``result.ladder``, which computes it once per result."""
     pb = result.problem
     two = [a for a in pb.space.arrangements if a.n_layers == 2]
     lad = None
@@ -427,5 +423,4 @@ def mitigation_ladder(result) -> Ladder | None:
         i4, note = _four_layer(result)
         four = result.candidates.take(np.array([i4])) if i4 is not None else None
         lad = build_ladder(pb, pool, four=four, four_note=note)
-    _CACHE[result] = lad
     return lad

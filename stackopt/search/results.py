@@ -13,11 +13,12 @@ import pandas as pd
 
 from stackopt import __version__
 from stackopt.search.front import nondominated
+from stackopt.search.ladder import Ladder, mitigation_ladder
 from stackopt.search.picks import PICKS
 from stackopt.search.problem import Evaluation, Problem
 from stackopt.search.space import Candidates, candidate_stackup
 
-__all__ = ["Result", "PICKS", "MODEL_DEPENDENT_DB"]
+__all__ = ["Result", "PICKS", "MODEL_DEPENDENT_DB", "metrics_record"]
 
 #: A pick whose margin spread over the via models exceeds this is "model-dependent", dB
 #: (the size of disagreement that can reverse a ranking; common practice, no source).
@@ -28,6 +29,29 @@ MODEL_DEPENDENT_DB = 3.0
 def _num(x: float | np.floating) -> float | None:
     x = float(x)
     return x if math.isfinite(x) else None
+
+
+def metrics_record(problem: Problem, ev: Evaluation, i: int) -> dict[str, Any]:
+    """Row ``i`` of an evaluation as JSON-ready metrics: the part of a candidate's record
+    (:meth:`Result.record`) that ``stackopt eval`` prints for one stackup as well."""
+    g, sc = ev.geometry, problem.scenario
+    return {
+        "layers": int(g.layers[i]),
+        "thickness_m": _num(g.thickness[i]),
+        "ground_plane_depth_m": _num(g.via_height[i]),
+        "er_top": _num(g.trace_er[i]),
+        "unit_cost": _num(ev.unit_cost[i]),
+        "lot_cost": _num(ev.lot_cost[i]),
+        "lead_time_days": _num(ev.lead_time_days[i]),
+        "margin_dB": _num(ev.margin[i]),
+        "meets_requirements": bool(ev.feasible[i] and ev.margin[i] >= 0),
+        "feasible": bool(ev.feasible[i]),
+        "violations": ev.violated(i),
+        "attenuation_dB": {r.key: _num(ev.attenuation[i, k])
+                           for k, r in enumerate(sc.requirements)},
+        "ground_inductance_H": _num(ev.inductance[i]),
+        "line_widths_m": {ln.name: _num(ev.widths[i, j]) for j, ln in enumerate(sc.lines)},
+    }
 
 
 @dataclass(frozen=True, eq=False)
@@ -159,6 +183,12 @@ class Result:
         nothing qualifies)."""
         return {name: p.select(self) for name, p in PICKS.items()}
 
+    @cached_property
+    def ladder(self) -> Ladder | None:
+        """The mitigation ladder (:mod:`stackopt.search.ladder`), computed once per result;
+        ``None`` without two-layer boards in the space."""
+        return mitigation_ladder(self)
+
     def prepreg_pick(self) -> list[dict]:
         """For each dielectric used between the top copper and its plane (by a feasible
         candidate): the best robust margin reached with it (ties: yield, then
@@ -224,9 +254,8 @@ class Result:
 
     def record(self, i: int, check_lines: bool = False) -> dict:
         """Candidate ``i`` as a JSON-ready dict (the summary's candidate record)."""
-        ev, g, sc = self.evaluation, self.evaluation.geometry, self.problem.scenario
+        ev = self.evaluation
         desc = self.problem.space.describe(self.candidates, i)
-        att = {r.key: _num(ev.attenuation[i, k]) for k, r in enumerate(sc.requirements)}
         st = self.stackup(i)
         layers = []
         for rec in st.to_records():
@@ -238,28 +267,20 @@ class Result:
                 layer["er"] = _num(rec["er"])
                 layer["df"] = _num(rec["df"])
             layers.append(layer)
+        sc = self.problem.scenario
+        met = metrics_record(self.problem, ev, i)
         out = {
-            "id": self.ids[i],
-            "layers": int(g.layers[i]),
+            "id": self.ids[i], "layers": met.pop("layers"),
             "arrangement": desc["arrangement"],
-            "thickness_m": _num(g.thickness[i]),
-            "ground_plane_depth_m": _num(g.via_height[i]),
+            "thickness_m": met.pop("thickness_m"),
+            "ground_plane_depth_m": met.pop("ground_plane_depth_m"),
             "top_dielectric": desc["materials"][0],
-            "er_top": _num(g.trace_er[i]),
+            "er_top": met.pop("er_top"),
             "copper_m": _num(desc["copper_m"]),
             "drill_m": _num(desc["drill_m"]),
             "vias_per_ground": int(desc["vias"]),
             "mitigations": [m for m in self.problem.space.mitigations if desc[m]],
-            "unit_cost": _num(ev.unit_cost[i]),
-            "lot_cost": _num(ev.lot_cost[i]),
-            "lead_time_days": _num(ev.lead_time_days[i]),
-            "margin_dB": _num(ev.margin[i]),
-            "meets_requirements": bool(self.meets[i]),
-            "feasible": bool(self.feasible[i]),
-            "violations": self.evaluation.violated(i),
-            "attenuation_dB": att,
-            "ground_inductance_H": _num(ev.inductance[i]),
-            "line_widths_m": {ln.name: _num(ev.widths[i, j]) for j, ln in enumerate(sc.lines)},
+            **met,
             "line_spacings_m": {ln.name: ln.spacing for ln in sc.lines
                                 if ln.spacing is not None},
             "lines": [r.to_summary() for r in self.lines(i, check_lines)],

@@ -13,6 +13,7 @@ opening is 1..``max_plies`` plies of one glass style.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field, replace
 from functools import cached_property
 
@@ -156,6 +157,22 @@ class Candidates:
         s = 1 + n_slots
         return cls(arr=m[:, 0], slot=m[:, 1:s], copper=m[:, s], drill=m[:, s + 1],
                    vias=m[:, s + 2], mit=m[:, s + 3:].astype(bool))
+
+    def replace(self, **changes: np.ndarray) -> Candidates:
+        """A copy with the named fields changed (``c.replace(drill=..., vias=...)``)."""
+        return dataclasses.replace(self, **changes)
+
+    def with_switch(self, k: int, on: bool = True) -> Candidates:
+        """A copy with mitigation switch ``k`` (index in the space's mitigations) set."""
+        mit = self.mit.copy()
+        mit[:, k] = on
+        return self.replace(mit=mit)
+
+    def with_slot(self, s: int, option: int) -> Candidates:
+        """A copy with dielectric slot ``s`` set to ``option``."""
+        slot = self.slot.copy()
+        slot[:, s] = option
+        return self.replace(slot=slot)
 
     def take(self, idx: np.ndarray) -> Candidates:
         """The rows ``idx``."""
