@@ -303,7 +303,7 @@ class Result:
                 out["impedance_range_ohm"] = {
                     ln.name: [_num(self.impedance_range[i, j, 0]),
                               _num(self.impedance_range[i, j, 1])]
-                    for j, ln in enumerate(sc.lines)}
+                    for j, ln in enumerate(self.problem.scenario.lines)}
         return out
 
     @cached_property
