@@ -30,13 +30,12 @@ FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.m
 
 
 def _touchstone(result, i: int) -> str:
-    from stackopt.circuit import solve
     from stackopt.outputs.touchstone import touchstone_text
+    from stackopt.search.responses import TOUCHSTONE_POINTS
 
     pb = result.problem
-    f = sweep_freqs(result, n=401)
-    g = pb.space.geometry(result.candidates.take([i]))
-    s = solve(pb.compiled, f, pb.ground_batch(g), pb.scenario.search.via_model)
+    f = sweep_freqs(result, n=TOUCHSTONE_POINTS)
+    s = result.sweeps.s([i], f)  # solved once per result (shared with response.png)
     comment = (f"stackopt: scenario {pb.scenario.name}, candidate {result.ids[i]}\n"
                f"via model {pb.scenario.search.via_model}; closed-form estimate")
     return touchstone_text(f, s[0], pb.compiled.z0, comment=comment)

@@ -11,6 +11,8 @@ import math
 import numpy as np
 
 from stackopt.search.picks import PICKS
+from stackopt.search.responses import PLOT_POINTS
+from stackopt.search.responses import sweep_freqs as _sweep_freqs
 
 __all__ = ["RECOMMENDED", "unique_picks", "selected_index",
            "cost_items", "sweep_freqs", "responses", "passband_losses", "passband_summary",
@@ -94,29 +96,21 @@ def cost_items(result, idx) -> dict[str, np.ndarray]:
     return {k: v[idx] for k, v in result.evaluation.cost_items.items()}
 
 
-def sweep_freqs(result, n: int = 361) -> np.ndarray:
-    """A linear sweep from near DC to 1.4 x the highest requirement frequency, Hz (with the
-    requirement frequencies themselves included, so their marks sit on the curve)."""
-    fs = np.asarray(result.problem.freqs, dtype=float)
-    top = 1.4 * float(fs.max())
-    grid = np.linspace(top / n, top, n)
-    return np.unique(np.concatenate([grid, fs]))
+def sweep_freqs(result, n: int = PLOT_POINTS) -> np.ndarray:
+    """The response sweep of a result, Hz (:func:`stackopt.search.responses.sweep_freqs`)."""
+    return _sweep_freqs(result.problem, n)
 
 
 def responses(result, idx, freqs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(|S21| dB of candidates ``idx`` (k, F), |S21| dB with ideal grounding (F,)) over
-    ``freqs``, under the scenario's via model."""
-    from stackopt.circuit import solve
-
-    pb = result.problem
-    model = pb.scenario.search.via_model
-    idx = np.asarray(idx, dtype=np.int64)
-    g = pb.space.geometry(result.candidates.take(idx))
-    s = solve(pb.compiled, freqs, pb.ground_batch(g), model)
-    s0 = solve(pb.compiled, freqs, None, model)  # None: ideal grounds
+    ``freqs`` (a sweep of :func:`sweep_freqs`), under the scenario's via model; read from
+    the result's sweeps (solved once per result, not here)."""
+    sw = result.sweeps
+    s = sw.s(idx, freqs)
+    s0 = sw.ideal[sw.at(freqs)]
     tiny = 1e-30
     return (20 * np.log10(np.abs(s[..., 1, 0]) + tiny),
-            20 * np.log10(np.abs(s0[0, :, 1, 0]) + tiny))
+            20 * np.log10(np.abs(s0[:, 1, 0]) + tiny))
 
 
 def top_dielectric(result) -> np.ndarray:

@@ -16,6 +16,7 @@ from stackopt.search.front import nondominated
 from stackopt.search.ladder import Ladder, mitigation_ladder
 from stackopt.search.picks import PICKS
 from stackopt.search.problem import Evaluation, Problem
+from stackopt.search.responses import Sweeps
 from stackopt.search.space import Candidates, candidate_stackup
 
 __all__ = ["Result", "PICKS", "MODEL_DEPENDENT_DB", "metrics_record"]
@@ -182,6 +183,12 @@ class Result:
         """Index of each named pick of :data:`~stackopt.search.picks.PICKS` (``None`` when
         nothing qualifies)."""
         return {name: p.select(self) for name, p in PICKS.items()}
+
+    @cached_property
+    def sweeps(self) -> Sweeps:
+        """Dense-sweep responses of candidates the outputs show, each solved once
+        (:mod:`stackopt.search.responses`)."""
+        return Sweeps(self.problem, self.candidates)
 
     @cached_property
     def ladder(self) -> Ladder | None:
