@@ -382,7 +382,7 @@ def build_ladder(problem: Problem, pool: Candidates | None = None, *, four=None,
         par = pool.take(np.zeros(0, dtype=np.int64))
         four_ev = problem.evaluate(four) if four is not None else None
         return Ladder(problem, near, problem.evaluate(near), ("blocked",),
-                      (_words(sp, None, near.matrix()[0]),), par, problem.evaluate(par),
+                      (_words(sp, None, near),), par, problem.evaluate(par),
                       len(pool), exhaustive, four, four_ev, four_note)
     i0 = plain_board(problem, pool, ev)
     assert i0 is not None
