@@ -219,10 +219,17 @@ def render(r: dict[str, Any]) -> str:
         ratio = f"{m['ratio']:.3f}" if m.get("ratio") else "n/a"
         out.append(f"{mark} {name:<16}{pred:>12}{ratio:>20}")
     out.append("* = closest model")
+    return "\n".join(out + written_lines(r, ""))
+
+
+def written_lines(r: dict[str, Any], no_factor: str) -> list[str]:
+    """The closing lines of a fit: the calibration file written (``no_factor`` stands in
+    for an empty list of factors) and the plot."""
+    out = []
     if "calibration_file" in r:
         fac = ", ".join(f"{m} {k:.3f}" for m, k in r["factors"].items())
         out.append(f"calibration file {r['calibration_file']}: {len(r['coupons'])} coupon(s);"
-                   f" factors {fac}")
+                   f" factors {fac or no_factor}")
     if "plot" in r:
         out.append(f"plot: {r['plot']}")
-    return "\n".join(out)
+    return out

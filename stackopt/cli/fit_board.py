@@ -67,10 +67,6 @@ def render(r: dict[str, Any]) -> str:
     if r.get("factor") is not None:
         out.append(f"one factor on the via inductances: x{r['factor']:.3g} -> "
                    f"{r['scaled_rms_error_dB']:.2f} dB rms")
-    if "calibration_file" in r:
-        fac = ", ".join(f"{m} {k:.3f}" for m, k in r["factors"].items())
-        out.append(f"calibration file {r['calibration_file']}: {len(r['coupons'])} coupon(s);"
-                   f" factors {fac or 'none (fit with --scale to add one)'}")
-    if "plot" in r:
-        out.append(f"plot: {r['plot']}")
-    return "\n".join(out)
+    from stackopt.cli.fit import written_lines
+
+    return "\n".join(out + written_lines(r, "none (fit with --scale to add one)"))
