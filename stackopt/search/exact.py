@@ -23,9 +23,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from stackopt.cost import PriceBatch, price
+from stackopt.search.arrangement import Arrangement
 from stackopt.search.phenotype import QUANTUM, quantize
 from stackopt.search.problem import Problem
-from stackopt.search.space import Arrangement, Candidates, Space
+from stackopt.search.space import Candidates, Space
 
 __all__ = ["ExactPlan", "ExactCost", "cheapest_builds", "exact_candidates", "enumerate_all",
            "exact_cost", "construction_candidates"]

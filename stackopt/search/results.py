@@ -3,7 +3,6 @@ the JSON-ready summary (the contract the report, exports and users' scripts rely
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from functools import cached_property
 from typing import Any
@@ -11,48 +10,22 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from stackopt import __version__
 from stackopt.search.front import nondominated
 from stackopt.search.ladder import Ladder, mitigation_ladder
 from stackopt.search.picks import PICKS
 from stackopt.search.problem import Evaluation, Problem
+from stackopt.search.records import (
+    MODEL_DEPENDENT_DB,
+    candidate_frame,
+    candidate_record,
+    json_number,
+    metrics_record,
+    summary,
+)
 from stackopt.search.responses import Sweeps
 from stackopt.search.space import Candidates, candidate_stackup
 
 __all__ = ["Result", "PICKS", "MODEL_DEPENDENT_DB", "metrics_record"]
-
-#: A pick whose margin spread over the via models exceeds this is "model-dependent", dB
-#: (the size of disagreement that can reverse a ranking; common practice, no source).
-MODEL_DEPENDENT_DB = 3.0
-
-
-
-def _num(x: float | np.floating) -> float | None:
-    x = float(x)
-    return x if math.isfinite(x) else None
-
-
-def metrics_record(problem: Problem, ev: Evaluation, i: int) -> dict[str, Any]:
-    """Row ``i`` of an evaluation as JSON-ready metrics: the part of a candidate's record
-    (:meth:`Result.record`) that ``stackopt eval`` prints for one stackup as well."""
-    g, sc = ev.geometry, problem.scenario
-    return {
-        "layers": int(g.layers[i]),
-        "thickness_m": _num(g.thickness[i]),
-        "ground_plane_depth_m": _num(g.via_height[i]),
-        "er_top": _num(g.trace_er[i]),
-        "unit_cost": _num(ev.unit_cost[i]),
-        "lot_cost": _num(ev.lot_cost[i]),
-        "lead_time_days": _num(ev.lead_time_days[i]),
-        "margin_dB": _num(ev.margin[i]),
-        "meets_requirements": bool(ev.feasible[i] and ev.margin[i] >= 0),
-        "feasible": bool(ev.feasible[i]),
-        "violations": ev.violated(i),
-        "attenuation_dB": {r.key: _num(ev.attenuation[i, k])
-                           for k, r in enumerate(sc.requirements)},
-        "ground_inductance_H": _num(ev.inductance[i]),
-        "line_widths_m": {ln.name: _num(ev.widths[i, j]) for j, ln in enumerate(sc.lines)},
-    }
 
 
 @dataclass(frozen=True, eq=False)
@@ -214,16 +187,16 @@ class Result:
             ok = rows[self.meets[rows]]
             cheap = (int(ok[np.lexsort((-ev.margin[ok], ev.unit_cost[ok]))[0]])
                      if len(ok) else None)
-            out.append({"top_dielectric": str(name), "er": _num(ev.geometry.trace_er[best]),
-                        "thickness_m": _num(ev.geometry.trace_height[best]),
-                        "best_margin_dB": _num(ev.margin[best]),
-                        "best_robust_margin_dB": _num(self.robust_margin[best]),
+            out.append({"top_dielectric": str(name), "er": json_number(ev.geometry.trace_er[best]),
+                        "thickness_m": json_number(ev.geometry.trace_height[best]),
+                        "best_margin_dB": json_number(ev.margin[best]),
+                        "best_robust_margin_dB": json_number(self.robust_margin[best]),
                         "best_id": self.ids[best],
                         "best_index": best,
                         "cheapest_meeting_id": None if cheap is None else self.ids[cheap],
                         "cheapest_meeting_index": cheap,
                         "cheapest_meeting_unit_cost": (None if cheap is None
-                                                       else _num(ev.unit_cost[cheap]))})
+                                                       else json_number(ev.unit_cost[cheap]))})
         out.sort(key=lambda r: (-r["best_robust_margin_dB"], r["top_dielectric"]))
         return out
 
@@ -260,58 +233,9 @@ class Result:
                          self._line_solves)
 
     def record(self, i: int, check_lines: bool = False) -> dict:
-        """Candidate ``i`` as a JSON-ready dict (the summary's candidate record)."""
-        ev = self.evaluation
-        desc = self.problem.space.describe(self.candidates, i)
-        st = self.stackup(i)
-        layers = []
-        for rec in st.to_records():
-            layer = {"kind": rec["kind"], "material": rec["material"],
-                     "thickness_m": _num(rec["thickness_m"])}
-            if rec["kind"] == "copper":
-                layer["role"] = rec["role"]
-            else:
-                layer["er"] = _num(rec["er"])
-                layer["df"] = _num(rec["df"])
-            layers.append(layer)
-        sc = self.problem.scenario
-        met = metrics_record(self.problem, ev, i)
-        out = {
-            "id": self.ids[i], "layers": met.pop("layers"),
-            "arrangement": desc["arrangement"],
-            "thickness_m": met.pop("thickness_m"),
-            "ground_plane_depth_m": met.pop("ground_plane_depth_m"),
-            "top_dielectric": desc["materials"][0],
-            "er_top": met.pop("er_top"),
-            "copper_m": _num(desc["copper_m"]),
-            "drill_m": _num(desc["drill_m"]),
-            "vias_per_ground": int(desc["vias"]),
-            "mitigations": [m for m in self.problem.space.mitigations if desc[m]],
-            **met,
-            "line_spacings_m": {ln.name: ln.spacing for ln in sc.lines
-                                if ln.spacing is not None},
-            "lines": [r.to_summary() for r in self.lines(i, check_lines)],
-            "stackup": layers,
-        }
-        if self.spread:
-            out["margin_by_model_dB"] = {m: _num(v[i]) for m, v in self.spread.items()}
-            sp = [float(v[i]) for v in self.spread.values() if np.isfinite(v[i])]
-            out["model_spread_dB"] = _num(max(sp) - min(sp)) if sp else None
-            out["model_dependent"] = bool(sp) and max(sp) - min(sp) > MODEL_DEPENDENT_DB
-        if self.robust:
-            out["robust_margin_dB"] = _num(self.robust_margin[i])
-            out["meets_under_every_model"] = bool(self.robust_meets[i])
-        if self.yields is not None and np.isfinite(self.yields[i]):
-            n_builds = self.problem.scenario.search.robustness.samples
-            p = float(self.yields[i])
-            out["yield"] = p
-            out["yield_standard_error"] = math.sqrt(p * (1 - p) / n_builds)
-            if self.impedance_range is not None:
-                out["impedance_range_ohm"] = {
-                    ln.name: [_num(self.impedance_range[i, j, 0]),
-                              _num(self.impedance_range[i, j, 1])]
-                    for j, ln in enumerate(self.problem.scenario.lines)}
-        return out
+        """Candidate ``i`` as a JSON-ready dict (the summary's candidate record,
+        :func:`stackopt.search.records.candidate_record`)."""
+        return candidate_record(self, i, check_lines)
 
     @cached_property
     def table(self) -> pd.DataFrame:
@@ -320,97 +244,11 @@ class Result:
         return self.frame()
 
     def frame(self, rows: np.ndarray | None = None) -> pd.DataFrame:
-        """The rows ``rows`` (default: all) of the table of candidates; only those rows'
-        strings are built, so a large result can be written in bounded blocks."""
-        rows = np.arange(self.n) if rows is None else np.asarray(rows, dtype=np.int64)
-        ev, g, sc, sp = self.evaluation, self.evaluation.geometry, self.problem.scenario, \
-            self.problem.space
-        c = self.candidates.take(rows)
-        arr_names = np.array([a.name for a in sp.arrangements])
-        # materials text built once per distinct build (arrangement + slot options)
-        _, first, inv = np.unique(np.column_stack([c.arr, c.slot]), axis=0,
-                                  return_index=True, return_inverse=True)
-        names = sp.slot_names(c.take(first))
-        mats = np.array([" / ".join(x for x in r if x) for r in names], dtype=object)[
-            inv.reshape(-1)]
-        cols: dict[str, object] = {
-            "id": np.char.mod("C%05d", rows + 1).astype(object),
-            "layers": g.layers[rows],
-            "arrangement": arr_names[c.arr],
-            "materials": mats,
-            "thickness_m": g.thickness[rows],
-            "ground_plane_depth_m": g.via_height[rows],
-            "er_top": g.trace_er[rows],
-            "copper_m": g.copper[rows],
-            "drill_m": g.drill[rows],
-            "vias_per_ground": g.vias[rows],
-        }
-        for m in sp.mitigations:
-            cols[m] = g.flags[m][rows]
-        cols.update({
-            "unit_cost": ev.unit_cost[rows], "lot_cost": ev.lot_cost[rows],
-            "lead_time_days": ev.lead_time_days[rows], "margin_dB": ev.margin[rows],
-            "ground_inductance_H": ev.inductance[rows],
-        })
-        for k, r in enumerate(sc.requirements):
-            cols[f"attenuation_dB_{r.key}Hz"] = ev.attenuation[rows, k]
-        for j, ln in enumerate(sc.lines):
-            cols[f"width_{ln.name}_m"] = ev.widths[rows, j]
-        cols["feasible"] = self.feasible[rows]
-        cols["meets_requirements"] = self.meets[rows]
-        cols["violations"] = self._violation_text(rows)
-        cols["on_front"] = self.on_front[rows]
-        return pd.DataFrame(cols)
-
-    def _violation_text(self, rows: np.ndarray) -> np.ndarray:
-        """The constraints each of ``rows`` violates, as text; strings are built only for
-        the rows that violate something."""
-        text = np.full(len(rows), "", dtype=object)
-        for k, v in self.evaluation.violations.items():
-            hit = np.flatnonzero(v[rows] > 0)
-            if not len(hit):
-                continue
-            new = [f"{k} (+{x:.3g})" for x in v[rows[hit]].tolist()]
-            text[hit] = [f"{a}; {b}" if a else b for a, b in zip(text[hit].tolist(), new)]
-        return text
+        """The rows ``rows`` (default: all) of the table of candidates
+        (:func:`stackopt.search.records.candidate_frame`)."""
+        return candidate_frame(self, rows)
 
     def to_summary(self, extra: dict | None = None) -> dict:
-        """The JSON-ready summary (see the README for the contract)."""
-        sc, table = self.problem.scenario, self.problem.table
-        out = {
-            "scenario": sc.name,
-            "fab": table.fab,
-            "currency": table.currency,
-            "quantity": sc.board.quantity,
-            "method": self.method,
-            "seed": self.seed,
-            "version": __version__,
-            "objective": sc.search.objective,
-            "via_model": sc.search.via_model,
-            "calibration": (sc.search.calibration.echo()
-                            if sc.search.calibration is not None
-                            and not isinstance(sc.search.calibration, str) else None),
-            "space_size": int(self.space_size),
-            "evaluated": int(self.evaluated),
-            "requirements": [{"key": r.key, "label": r.label,
-                              "min_attenuation_dB": r.min_attenuation}
-                             for r in sc.requirements],
-            "front": [self.record(int(i)) for i in self.front_order],
-            "picks": {k: (None if v is None else self.record(v, check_lines=True))
-                      for k, v in self.picks.items()},
-            "prepreg_pick": [{k: v for k, v in r.items() if not k.endswith("_index")}
-                             for r in self.prepreg_pick()],
-            "stats": {k: (int(v) if isinstance(v, int | np.integer) else v)
-                      for k, v in self.stats.items()},
-        }
-        if self.robust:
-            rb = sc.search.robustness
-            out["robustness"] = {"models": list(rb.models), "samples": rb.samples,
-                                 "yield_target": rb.yield_target,
-                                 "distribution": rb.distribution,
-                                 "model_dependent_above_dB": MODEL_DEPENDENT_DB}
-        if self.limits:
-            out["limits"] = self.limits
-        if extra:
-            out.update(extra)
-        return out
+        """The JSON-ready summary (:func:`stackopt.search.records.summary`; see the README
+        for the contract)."""
+        return summary(self, extra)

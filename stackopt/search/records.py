@@ -1,0 +1,211 @@
+"""The search's answer as records: a candidate's JSON-ready record, the table of candidates
+and the summary (``summary.json``) — the contract the report, exports and users' scripts
+rely on. :class:`~stackopt.search.results.Result` exposes them as ``record``, ``frame``
+and ``to_summary``.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+import pandas as pd
+
+from stackopt import __version__
+from stackopt.search.problem import Evaluation, Problem
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
+
+__all__ = ["MODEL_DEPENDENT_DB", "metrics_record", "candidate_record", "candidate_frame",
+           "summary", "json_number"]
+
+#: A pick whose margin spread over the via models exceeds this is "model-dependent", dB
+#: (the size of disagreement that can reverse a ranking; common practice, no source).
+MODEL_DEPENDENT_DB = 3.0
+
+
+def json_number(x: float | np.floating) -> float | None:
+    """``x`` as a float, ``None`` where it is not finite (JSON has no NaN)."""
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+def metrics_record(problem: Problem, ev: Evaluation, i: int) -> dict[str, Any]:
+    """Row ``i`` of an evaluation as JSON-ready metrics: the part of a candidate's record
+    (:meth:`Result.record`) that ``stackopt eval`` prints for one stackup as well."""
+    g, sc = ev.geometry, problem.scenario
+    return {
+        "layers": int(g.layers[i]),
+        "thickness_m": json_number(g.thickness[i]),
+        "ground_plane_depth_m": json_number(g.via_height[i]),
+        "er_top": json_number(g.trace_er[i]),
+        "unit_cost": json_number(ev.unit_cost[i]),
+        "lot_cost": json_number(ev.lot_cost[i]),
+        "lead_time_days": json_number(ev.lead_time_days[i]),
+        "margin_dB": json_number(ev.margin[i]),
+        "meets_requirements": bool(ev.feasible[i] and ev.margin[i] >= 0),
+        "feasible": bool(ev.feasible[i]),
+        "violations": ev.violated(i),
+        "attenuation_dB": {r.key: json_number(ev.attenuation[i, k])
+                           for k, r in enumerate(sc.requirements)},
+        "ground_inductance_H": json_number(ev.inductance[i]),
+        "line_widths_m": {ln.name: json_number(ev.widths[i, j]) for j, ln in enumerate(sc.lines)},
+    }
+
+
+def candidate_record(result: Result, i: int, check_lines: bool = False) -> dict:
+    """Candidate ``i`` of ``result`` as a JSON-ready dict (the summary's candidate record,
+    :meth:`Result.record`)."""
+    ev = result.evaluation
+    desc = result.problem.space.describe(result.candidates, i)
+    st = result.stackup(i)
+    layers = []
+    for rec in st.to_records():
+        layer = {"kind": rec["kind"], "material": rec["material"],
+                 "thickness_m": json_number(rec["thickness_m"])}
+        if rec["kind"] == "copper":
+            layer["role"] = rec["role"]
+        else:
+            layer["er"] = json_number(rec["er"])
+            layer["df"] = json_number(rec["df"])
+        layers.append(layer)
+    sc = result.problem.scenario
+    met = metrics_record(result.problem, ev, i)
+    out = {
+        "id": result.ids[i], "layers": met.pop("layers"),
+        "arrangement": desc["arrangement"],
+        "thickness_m": met.pop("thickness_m"),
+        "ground_plane_depth_m": met.pop("ground_plane_depth_m"),
+        "top_dielectric": desc["materials"][0],
+        "er_top": met.pop("er_top"),
+        "copper_m": json_number(desc["copper_m"]),
+        "drill_m": json_number(desc["drill_m"]),
+        "vias_per_ground": int(desc["vias"]),
+        "mitigations": [m for m in result.problem.space.mitigations if desc[m]],
+        **met,
+        "line_spacings_m": {ln.name: ln.spacing for ln in sc.lines
+                            if ln.spacing is not None},
+        "lines": [r.to_summary() for r in result.lines(i, check_lines)],
+        "stackup": layers,
+    }
+    if result.spread:
+        out["margin_by_model_dB"] = {m: json_number(v[i]) for m, v in result.spread.items()}
+        sp = [float(v[i]) for v in result.spread.values() if np.isfinite(v[i])]
+        out["model_spread_dB"] = json_number(max(sp) - min(sp)) if sp else None
+        out["model_dependent"] = bool(sp) and max(sp) - min(sp) > MODEL_DEPENDENT_DB
+    if result.robust:
+        out["robust_margin_dB"] = json_number(result.robust_margin[i])
+        out["meets_under_every_model"] = bool(result.robust_meets[i])
+    if result.yields is not None and np.isfinite(result.yields[i]):
+        n_builds = result.problem.scenario.search.robustness.samples
+        p = float(result.yields[i])
+        out["yield"] = p
+        out["yield_standard_error"] = math.sqrt(p * (1 - p) / n_builds)
+        if result.impedance_range is not None:
+            out["impedance_range_ohm"] = {
+                ln.name: [json_number(result.impedance_range[i, j, 0]),
+                          json_number(result.impedance_range[i, j, 1])]
+                for j, ln in enumerate(result.problem.scenario.lines)}
+    return out
+
+
+def candidate_frame(result: Result, rows: np.ndarray | None = None) -> pd.DataFrame:
+    """The rows ``rows`` (default: all) of the table of candidates (:meth:`Result.frame`);
+    only those rows' strings are built, so a large result can be written in bounded
+    blocks."""
+    rows = np.arange(result.n) if rows is None else np.asarray(rows, dtype=np.int64)
+    ev, g, sc, sp = result.evaluation, result.evaluation.geometry, result.problem.scenario, \
+        result.problem.space
+    c = result.candidates.take(rows)
+    arr_names = np.array([a.name for a in sp.arrangements])
+    # materials text built once per distinct build (arrangement + slot options)
+    _, first, inv = np.unique(np.column_stack([c.arr, c.slot]), axis=0,
+                              return_index=True, return_inverse=True)
+    names = sp.slot_names(c.take(first))
+    mats = np.array([" / ".join(x for x in r if x) for r in names], dtype=object)[
+        inv.reshape(-1)]
+    cols: dict[str, object] = {
+        "id": np.char.mod("C%05d", rows + 1).astype(object),
+        "layers": g.layers[rows],
+        "arrangement": arr_names[c.arr],
+        "materials": mats,
+        "thickness_m": g.thickness[rows],
+        "ground_plane_depth_m": g.via_height[rows],
+        "er_top": g.trace_er[rows],
+        "copper_m": g.copper[rows],
+        "drill_m": g.drill[rows],
+        "vias_per_ground": g.vias[rows],
+    }
+    for m in sp.mitigations:
+        cols[m] = g.flags[m][rows]
+    cols.update({
+        "unit_cost": ev.unit_cost[rows], "lot_cost": ev.lot_cost[rows],
+        "lead_time_days": ev.lead_time_days[rows], "margin_dB": ev.margin[rows],
+        "ground_inductance_H": ev.inductance[rows],
+    })
+    for k, r in enumerate(sc.requirements):
+        cols[f"attenuation_dB_{r.key}Hz"] = ev.attenuation[rows, k]
+    for j, ln in enumerate(sc.lines):
+        cols[f"width_{ln.name}_m"] = ev.widths[rows, j]
+    cols["feasible"] = result.feasible[rows]
+    cols["meets_requirements"] = result.meets[rows]
+    cols["violations"] = _violation_text(result, rows)
+    cols["on_front"] = result.on_front[rows]
+    return pd.DataFrame(cols)
+
+def _violation_text(result: Result, rows: np.ndarray) -> np.ndarray:
+    """The constraints each of ``rows`` violates, as text; strings are built only for
+    the rows that violate something."""
+    text = np.full(len(rows), "", dtype=object)
+    for k, v in result.evaluation.violations.items():
+        hit = np.flatnonzero(v[rows] > 0)
+        if not len(hit):
+            continue
+        new = [f"{k} (+{x:.3g})" for x in v[rows[hit]].tolist()]
+        text[hit] = [f"{a}; {b}" if a else b for a, b in zip(text[hit].tolist(), new, strict=True)]
+    return text
+
+
+def summary(result: Result, extra: dict | None = None) -> dict:
+    """The JSON-ready summary of ``result`` (:meth:`Result.to_summary`; see the README for
+    the contract)."""
+    sc, table = result.problem.scenario, result.problem.table
+    out = {
+        "scenario": sc.name,
+        "fab": table.fab,
+        "currency": table.currency,
+        "quantity": sc.board.quantity,
+        "method": result.method,
+        "seed": result.seed,
+        "version": __version__,
+        "objective": sc.search.objective,
+        "via_model": sc.search.via_model,
+        "calibration": (sc.search.calibration.echo()
+                        if sc.search.calibration is not None
+                        and not isinstance(sc.search.calibration, str) else None),
+        "space_size": int(result.space_size),
+        "evaluated": int(result.evaluated),
+        "requirements": [{"key": r.key, "label": r.label,
+                          "min_attenuation_dB": r.min_attenuation}
+                         for r in sc.requirements],
+        "front": [result.record(int(i)) for i in result.front_order],
+        "picks": {k: (None if v is None else result.record(v, check_lines=True))
+                  for k, v in result.picks.items()},
+        "prepreg_pick": [{k: v for k, v in r.items() if not k.endswith("_index")}
+                         for r in result.prepreg_pick()],
+        "stats": {k: (int(v) if isinstance(v, int | np.integer) else v)
+                  for k, v in result.stats.items()},
+    }
+    if result.robust:
+        rb = sc.search.robustness
+        out["robustness"] = {"models": list(rb.models), "samples": rb.samples,
+                             "yield_target": rb.yield_target,
+                             "distribution": rb.distribution,
+                             "model_dependent_above_dB": MODEL_DEPENDENT_DB}
+    if result.limits:
+        out["limits"] = result.limits
+    if extra:
+        out.update(extra)
+    return out
