@@ -174,6 +174,7 @@ def test_check_prints_every_element_with_its_unit(capsys):
         line = next(x for x in out.splitlines() if x.startswith(name + " "))
         assert value in line
     assert "esl 100 pH" in out and "q 60" in out and "trace length 0.5 mm" in out
+    assert "mount 0402" in out and "None" not in out and "size=" not in out  # in words
     assert "finished thickness within 1.44 mm to 1.76 mm" in out
     rc = main(["check", str(ROOT / "scenarios" / "consumer_emi.yaml")])
     out = capsys.readouterr().out
@@ -208,3 +209,32 @@ def test_progress_only_on_a_terminal_and_not_quiet(tty, enabled, shown):
             bar(k, 100)
     assert ("searching" in s.text) == shown
     assert (s.text != "") == shown
+
+
+def test_eval_prints_worst_path_and_largest_coupling_not_a_sum(tmp_path, capsys):
+    # the quantities the report's compare table shows (one owner), checked against the
+    # per-connection breakdown eval prints beside them: in the demo every connection holds
+    # one capacitor, so the worst path is the largest connection total
+    import json
+
+    from stackopt.cli.main import main
+    from stackopt.outputs.exports import selected_yaml
+
+    res = run()
+    got = {}
+    for key in ("cheapest_two_layer", "cheapest_meeting_requirements"):
+        f = tmp_path / f"{key}.yaml"
+        f.write_text(selected_yaml(res, res.picks[key]))
+        assert main(["eval", str(ROOT / "scenarios" / "harmonic_lowpass.yaml"),
+                     "--stackup", str(f), "--json"]) == 0
+        got[key] = out = json.loads(capsys.readouterr().out)
+        assert out["worst_ground_path_H"] == pytest.approx(
+            max(g["total_H"] for g in out["grounds"]), rel=1e-9)
+        assert main(["eval", str(ROOT / "scenarios" / "harmonic_lowpass.yaml"),
+                     "--stackup", str(f)]) == 0
+        text = capsys.readouterr().out
+        assert "in all" not in text and "worst path" in text and "largest coupling" in text
+    # the two-layer board's limit is the coupling between connections (a shared return
+    # path through the thick core): far larger than on the four-layer board
+    two, four = got["cheapest_two_layer"], got["cheapest_meeting_requirements"]
+    assert two["largest_ground_coupling_H"] > 20 * four["largest_ground_coupling_H"]

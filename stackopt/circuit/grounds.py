@@ -59,6 +59,7 @@ from stackopt.physics.parallel import (
 )
 
 __all__ = ["GroundBatch", "GroundParts", "ground_parts", "ground_inductance_matrix",
+           "worst_path_and_coupling",
            "ground_breakdown", "row_axes", "DEFAULT_PITCH_DRILLS",
            "DEFAULT_POUR_GAP", "STITCH_VIAS"]
 
@@ -347,6 +348,25 @@ def ground_inductance_matrix(compiled: CompiledCircuit, batch: GroundBatch,
         connection have only their mounted loop (and no coupling).
     """
     return ground_parts(compiled, batch, model, mutual=mutual).matrix
+
+
+def worst_path_and_coupling(compiled: CompiledCircuit, batch: GroundBatch,
+                            model: str = "goldfarb-pucel") -> tuple[np.ndarray, np.ndarray]:
+    """What sets a filter's stopband among the ground connections: (the largest self
+    inductance of one grounded element's path, via + trace + mounted loop (N,); the
+    largest mutual inductance between two elements on different connections (N,)) [H],
+    0 where the circuit has no such path or pair. Both are entries of
+    :func:`ground_inductance_matrix`; their sum over connections would hide the coupling
+    that limits a two-layer board."""
+    lmat = ground_inductance_matrix(compiled, batch, model)
+    n, g = lmat.shape[0], lmat.shape[-1]
+    if g == 0:
+        return np.zeros(n), np.zeros(n)
+    own = np.diagonal(lmat, axis1=-2, axis2=-1).max(axis=-1)
+    conn = np.asarray(compiled.terminal_conn)
+    other = conn[:, None] != conn[None, :]
+    mutual = np.where(other[None], np.abs(lmat), 0.0).max(axis=(-2, -1))
+    return own, mutual
 
 
 def ground_breakdown(compiled: CompiledCircuit, batch: GroundBatch,

@@ -43,7 +43,11 @@ def run(args: argparse.Namespace) -> int:
     sf = load_selected(args.stackup)
     problem = Problem(inp.scenario, inp.table)
     ev = evaluate_stackup(problem, sf, args.stackup)
-    from stackopt.circuit.grounds import ground_breakdown, ground_parts
+    from stackopt.circuit.grounds import (
+        ground_breakdown,
+        ground_parts,
+        worst_path_and_coupling,
+    )
 
     g = ev.geometry
     sc = inp.scenario
@@ -51,10 +55,13 @@ def run(args: argparse.Namespace) -> int:
     grounds = [{k: (v if k == "name" else float(v[0])) for k, v in row.items()}
                for row in ground_breakdown(problem.compiled, gb, sc.search.via_model)]
     guard = float(ground_parts(problem.compiled, gb, sc.search.via_model).guard[0])
+    path, coupling = worst_path_and_coupling(problem.compiled, gb, sc.search.via_model)
     m = metrics_record(problem, ev, 0)
     out: dict[str, Any] = {
         **{k: m.pop(k) for k in ("layers", "thickness_m", "ground_plane_depth_m",
                                  "ground_inductance_H")},
+        "worst_ground_path_H": float(path[0]),
+        "largest_ground_coupling_H": float(coupling[0]),
         "grounds": grounds,
         "mutual_guard_active": guard < 1.0,
         "placement_notes": list(problem.placed[1]),
@@ -73,10 +80,12 @@ def run(args: argparse.Namespace) -> int:
     cur = inp.table.currency
     say(f"{out['layers']} layers, {fq(out['thickness_m'], 'length')} finished; ground plane "
           f"{fq(out['ground_plane_depth_m'], 'length')} under the top")
-    say(f"ground connections: {fq(out['ground_inductance_H'], 'inductance')} in all "
-          f"({inp.scenario.search.via_model}"
+    say(f"ground connections ({sc.search.via_model}"
           + (f", calibrated x{sc.search.via_scale(sc.search.via_model):.3g} by "
-             f"{out['calibration']['file']}" if out["calibration"] else "") + ")")
+             f"{out['calibration']['file']}" if out["calibration"] else "") + "): worst "
+        f"path {fq(out['worst_ground_path_H'], 'inductance')} (one element's via, pad "
+        "trace and mounted loop), largest coupling between two connections "
+        f"{fq(out['largest_ground_coupling_H'], 'inductance')}")
     if grounds:
         say(table([[r["name"]] + [fq(r[k], "inductance") for k in
                                   ("via_H", "trace_H", "mount_H", "total_H")]

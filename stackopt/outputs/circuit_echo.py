@@ -7,6 +7,8 @@ show them as a table. Generic over the models' fields: a field declared with a u
 
 from __future__ import annotations
 
+from pydantic import BaseModel
+
 from stackopt.model.fields import dimension_of
 from stackopt.units import format_quantity as fq
 
@@ -29,6 +31,8 @@ def explicit_circuit(circuit):
 
 
 def _fmt(value, dim) -> str:
+    if isinstance(value, BaseModel):  # a nested part (e.g. the mount): its set fields
+        return _fields(value, set()) or "default"
     if isinstance(value, tuple):
         return "(" + ", ".join(_fmt(v, dim) for v in value) + ")"
     if isinstance(value, bool) or not isinstance(value, int | float):
@@ -47,7 +51,8 @@ def _fields(model, skip: set[str]) -> str:
         v = getattr(model, name)
         if name in skip or v is None or v == info.default:
             continue
-        out.append(f"{name.replace('_', ' ')} {_fmt(v, dimension_of(info))}")
+        text = _fmt(v, dimension_of(info))
+        out.append(text if name == "size" else f"{name.replace('_', ' ')} {text}")
     return ", ".join(out)
 
 

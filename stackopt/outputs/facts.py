@@ -148,24 +148,14 @@ def passband_losses(result, idx, n: int = 201) -> tuple[np.ndarray, np.ndarray] 
 
 
 def ground_figures(result, idx) -> tuple[np.ndarray, np.ndarray]:
-    """What sets a filter's stopband among the ground connections of candidates ``idx``:
-    (the largest self inductance of one grounded element's path (k,), the largest mutual
-    inductance between two elements on different connections (k,)), H, under the
-    scenario's via model (0 where the circuit has no such pair)."""
-    from stackopt.circuit import ground_inductance_matrix
+    """:func:`stackopt.circuit.grounds.worst_path_and_coupling` of candidates ``idx``
+    under the scenario's via model: (worst path (k,), largest coupling (k,)) [H]."""
+    from stackopt.circuit.grounds import worst_path_and_coupling
 
     pb = result.problem
     idx = np.asarray(idx, dtype=np.int64)
     gb = pb.ground_batch(pb.space.geometry(result.candidates.take(idx)))
-    lmat = ground_inductance_matrix(pb.compiled, gb, pb.scenario.search.via_model)
-    k, g = len(idx), lmat.shape[-1]
-    if g == 0:
-        return np.zeros(k), np.zeros(k)
-    own = np.diagonal(lmat, axis1=-2, axis2=-1).max(axis=-1)
-    conn = np.asarray(pb.compiled.terminal_conn)
-    other = conn[:, None] != conn[None, :]
-    mutual = np.where(other[None], np.abs(lmat), 0.0).max(axis=(-2, -1))
-    return own, mutual
+    return worst_path_and_coupling(pb.compiled, gb, pb.scenario.search.via_model)
 
 
 def passband_summary(result) -> dict | None:
