@@ -16,6 +16,7 @@ from stackopt.search.responses import sweep_freqs as _sweep_freqs
 
 __all__ = ["RECOMMENDED", "unique_picks", "selected_index",
            "cost_items", "sweep_freqs", "responses", "passband_losses", "passband_summary",
+           "passband_text",
            "ground_figures", "plural", "top_dielectric", "shortfalls", "money",
            "money_digits", "mm", "db"]
 
@@ -126,25 +127,31 @@ def shortfalls(result, i: int) -> list[tuple[str, float, float, float]]:
             for k, r in enumerate(sc.requirements)]
 
 
-def passband_losses(result, idx, n: int = 201) -> tuple[np.ndarray, np.ndarray] | None:
+def passband_losses(result, idx) -> tuple[np.ndarray, np.ndarray] | None:
     """(worst insertion loss (k,), worst return loss (k,)) in dB of candidates ``idx``
     over the scenario's passband (:attr:`Scenario.passband_hz`; ``None`` without one):
-    the largest -20 log10|S21| and the smallest -20 log10|S11| on ``n`` log-spaced points
-    with the band edges, under the scenario's via model."""
-    from stackopt.circuit import solve
-    from stackopt.circuit.metrics import passband_insertion_loss_db, worst_in_band
+    the largest -20 log10|S21| and the smallest -20 log10|S11| on the log-spaced
+    :func:`~stackopt.search.responses.passband_freqs` (band edges included), under the
+    scenario's via model; read from the result's sweeps (solved once per candidate)."""
+    from stackopt.circuit.metrics import attenuation_db
+    from stackopt.search.responses import passband_freqs
 
-    pb = result.problem
-    band = pb.scenario.passband_hz
-    if band is None:
+    f = passband_freqs(result.problem)
+    if f is None:
         return None
-    f = np.geomspace(band[0], band[1], n)
-    idx = np.asarray(idx, dtype=np.int64)
-    s = solve(pb.compiled, f, pb.ground_batch(pb.space.geometry(result.candidates.take(idx))),
-              pb.scenario.search.via_model)
-    il = passband_insertion_loss_db(f, s, band)
-    rl_f = -20 * np.log10(np.maximum(np.abs(s[..., 0, 0]), 1e-15))
-    return il, worst_in_band(f, rl_f, band, worst="min")
+    s = result.sweeps.s(np.asarray(idx, dtype=np.int64), f)
+    rl = -20 * np.log10(np.maximum(np.abs(s[..., 0, 0]), 1e-15))
+    return attenuation_db(s).max(axis=-1), rl.min(axis=-1)
+
+
+def passband_text(result) -> str:
+    """The passband in words, e.g. "863 MHz to 870 MHz", and where it comes from."""
+    sc = result.problem.scenario
+    lo, hi = sc.passband_hz  # type: ignore[misc]
+    band = f"{lo / 1e6:.6g} MHz to {hi / 1e6:.6g} MHz"  # exact: band edges are stated
+    return band if sc.passband is not None else (
+        band + " (the generated filter's design band; state 'passband' for the band the "
+        "signal uses)")
 
 
 def ground_figures(result, idx) -> tuple[np.ndarray, np.ndarray]:

@@ -21,6 +21,7 @@ from stackopt.outputs.facts import (
     money,
     money_digits,
     passband_losses,
+    passband_text,
     shortfalls,
     top_dielectric,
     unique_picks,
@@ -105,8 +106,10 @@ def _compare_table(result, c) -> tuple:
                     db(ev.margin[b] - ev.margin[a], sign=True)))
     if pband is not None:
         il, rl = pband
-        rows += [row("Passband insertion loss (worst)", [db(x, 2) for x in il]),
-                 row("Passband return loss (worst)", [db(x) for x in rl])]
+        band = passband_text(result).split(" (")[0]
+        rows += [row(f"Passband insertion loss (worst over {band})",
+                     [db(x, 2) for x in il], db(il[-1] - il[0], 2, sign=True)),
+                 row(f"Passband return loss (worst over {band})", [db(x) for x in rl])]
     rows += [
         row("Worst ground path (one element's inductance to the plane)",
             [fq(x, "inductance") for x in own]),
@@ -221,7 +224,9 @@ def picks_table(result) -> tuple:
     ev, cur = result.evaluation, result.problem.table.currency
     rows = []
     tops = top_dielectric(result)
-    for i, names in unique_picks(result):
+    picks = unique_picks(result)
+    pband = passband_losses(result, [i for i, _ in picks])
+    for k, (i, names) in enumerate(picks):
         mit = [m for m in result.problem.space.mitigations if ev.geometry.flags[m][i]]
         rows.append([" / ".join(PICKS[n].report for n in names), result.ids[i],
                      str(_layers(result, i)), money(ev.unit_cost[i], cur),
@@ -229,8 +234,13 @@ def picks_table(result) -> tuple:
                      f"{ev.lead_time_days[i]:g} days",
                      f"{tops[i]}, {mm(ev.geometry.trace_height[i])}",
                      ", ".join(m.replace("_", " ") for m in mit) or "none"])
-    return ("table", ["Pick", "Candidate", "Layers", "Per board", "Lot", "Margin",
-                      "Lead time", "Top dielectric", "Mitigations"], rows)
+        if pband is not None:
+            rows[-1].insert(6, f"{db(pband[0][k], 2)} / {db(pband[1][k])}")
+    head = ["Pick", "Candidate", "Layers", "Per board", "Lot", "Margin", "Lead time",
+            "Top dielectric", "Mitigations"]
+    if pband is not None:
+        head.insert(6, "Passband loss / return loss (worst)")
+    return ("table", head, rows)
 
 
 def report_document(result, sweep=None) -> list[tuple]:

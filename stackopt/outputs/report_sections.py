@@ -8,7 +8,7 @@ import math
 
 from stackopt.model.mitigations import MITIGATIONS
 from stackopt.outputs.case import four_layer_case
-from stackopt.outputs.facts import db, mm, plural, selected_index, unique_picks
+from stackopt.outputs.facts import db, mm, passband_text, plural, selected_index, unique_picks
 from stackopt.outputs.report_calibration import calibration_note
 from stackopt.outputs.report_lines import WIDE_TRACE, impedance_table, layer_lines, line_risks
 from stackopt.search.picks import PICKS
@@ -159,6 +159,9 @@ def assumptions(result) -> list[str]:
         f"table '{tab.fab}' in {tab.currency}"
         + (" (invented demo data)." if tab.invented else "."),
         f"Requirements: {fs or 'none'}; margin is the worst of (attenuation - required).",
+        *([] if sc.passband_hz is None else [
+            f"Passband: {passband_text(result)}; the picks' insertion and return loss are "
+            "the worst over it."]),
         f"Circuit: the scenario's circuit at {sc.circuit.z0:g} ohm, solved by nodal "
         "analysis with each ground connection's partial inductance (pad trace plus vias, "
         "mutual inductance between vias) in series with its element.",

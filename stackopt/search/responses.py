@@ -3,7 +3,8 @@
 The plots and the Touchstone export show the picks over a dense sweep, not only at the
 requirement frequencies the search solved. :class:`Sweeps` solves each candidate asked
 for once, on one grid that holds every sweep the outputs draw
-(:data:`PLOT_POINTS` and :data:`TOUCHSTONE_POINTS`, see :func:`sweep_freqs`), plus the
+(:data:`PLOT_POINTS` and :data:`TOUCHSTONE_POINTS`, see :func:`sweep_freqs`, and the
+passband's :func:`passband_freqs`), plus the
 ideal-ground reference once; outputs take slices of it and never solve a circuit.
 """
 
@@ -18,12 +19,15 @@ from stackopt.circuit import solve
 from stackopt.search.problem import Problem
 from stackopt.search.space import Candidates
 
-__all__ = ["PLOT_POINTS", "TOUCHSTONE_POINTS", "sweep_freqs", "Sweeps"]
+__all__ = ["PLOT_POINTS", "TOUCHSTONE_POINTS", "PASSBAND_POINTS", "sweep_freqs",
+           "passband_freqs", "Sweeps"]
 
 #: Points of the response plot's sweep.
 PLOT_POINTS = 361
 #: Points of the Touchstone export's sweep.
 TOUCHSTONE_POINTS = 401
+#: Log-spaced points of the passband-loss sweep (band edges included).
+PASSBAND_POINTS = 201
 
 
 def sweep_freqs(problem: Problem, n: int = PLOT_POINTS) -> np.ndarray:
@@ -33,6 +37,13 @@ def sweep_freqs(problem: Problem, n: int = PLOT_POINTS) -> np.ndarray:
     top = 1.4 * float(fs.max())
     grid = np.linspace(top / n, top, n)
     return np.unique(np.concatenate([grid, fs]))
+
+
+def passband_freqs(problem: Problem) -> np.ndarray | None:
+    """:data:`PASSBAND_POINTS` log-spaced frequencies over the scenario's passband
+    (:attr:`~stackopt.model.scenario.Scenario.passband_hz`), Hz; ``None`` without one."""
+    band = problem.scenario.passband_hz
+    return None if band is None else np.geomspace(band[0], band[1], PASSBAND_POINTS)
 
 
 @dataclass(frozen=True, eq=False)
@@ -46,8 +57,10 @@ class Sweeps:
     @cached_property
     def freqs(self) -> np.ndarray:
         """Every output sweep's frequencies in one sorted grid, Hz."""
+        band = passband_freqs(self.problem)
         return np.unique(np.concatenate([sweep_freqs(self.problem, n)
-                                         for n in (PLOT_POINTS, TOUCHSTONE_POINTS)]))
+                                         for n in (PLOT_POINTS, TOUCHSTONE_POINTS)]
+                                        + ([] if band is None else [band])))
 
     @cached_property
     def ideal(self) -> np.ndarray:
