@@ -138,7 +138,7 @@ def test_zero_tolerances_reproduce_the_nominal_margin(two_layer):
     rb = p.scenario.search.robustness.model_copy(update={"samples": 16, "thickness": 0.0,
                                                          "dk": 0.0, "etch": 0.0,
                                                          "drill": 0.0})
-    d = draw(rb, 0.0, np.zeros(len(p.compiled.names)), seed=1)
+    d = draw(rb, p.space.n_slots, np.zeros(len(p.compiled.names)), seed=1)
     idx = np.flatnonzero(r.on_front)[:4]
     g = p.space.geometry(r.candidates.take(idx))
     mc = monte_carlo(p, g, r.evaluation.widths[idx], p.scenario.search.via_model, d)

@@ -3,11 +3,18 @@ r"""Fab and part tolerances: a seeded Monte Carlo of the builds of a few candida
 Each of ``S`` simulated builds draws, once for every candidate (common random numbers,
 so that candidates are compared on the same builds):
 
-- the dielectric under the top copper, relative: :math:`h = h_0 (1 + \delta_t)`; the
-  ground vias and the controlled-impedance traces sit on the same dielectric, so both
-  see the same draw;
-- its Dk, relative; the etched trace width, :math:`w = w_0 + \delta_w`; the drill,
-  :math:`d = d_0 + \delta_d`;
+- every dielectric layer's thickness, relative and independently per layer (each ply or
+  core is pressed to its own tolerance; common practice, no source):
+  :math:`h_k = h_{k,0} (1 + u_k\,\tau_k)` with :math:`u_k` a unit deviate and
+  :math:`\tau_k` the tolerance of the layer's material — its own
+  ``thickness_tolerance`` in the cost table, else the capabilities' one, unless the
+  scenario's ``search.robustness.thickness`` sets one for every layer. Every height —
+  the ground vias' depth, each line's cross-section, the interconnect's dielectric —
+  is read from the perturbed layers by the one geometry owner
+  (:class:`~stackopt.model.geometry.LayerStack`), so a via and a trace over the same
+  layer see the same draw;
+- the Dk of every dielectric, one relative deviate per build; the etched trace width,
+  :math:`w = w_0 + \delta_w`; the drill, :math:`d = d_0 + \delta_d`;
 - every part's value, :math:`v = v_0 (1 + \delta_e)`, uniform over ± its tolerance.
 
 Fab deviates are normal with the tolerance at three standard deviations (``distribution:
@@ -22,31 +29,36 @@ second to import). The yield is the share of builds meeting every
 requirement; its standard error is at most :math:`\sqrt{p(1-p)/n}` (the binomial value,
 which Latin hypercube sampling does not exceed for monotone responses).
 
-All builds of all candidates are one batch (chunked only to bound memory): the ground
-inductance of ``candidates × samples`` geometries, the element impedances of every
-sample and one nodal solve per (build, frequency).
+All builds of all candidates are one batch (chunked only to bound memory): the geometry
+of ``candidates × samples`` boards, the ground inductance of each distinct (circuit
+input, sample) pair — candidates that share their electrical phenotype and the
+tolerances of the layers it depends on share their builds — the element impedances of
+every sample and one nodal solve per (build, frequency). Each line's impedance is the
+closed form that sized its width (:meth:`~stackopt.search.problem.Problem.line_impedances`)
+on the perturbed cross-section at the etched width.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 import numpy as np
 from scipy.special import ndtri
 
 from stackopt.circuit import compile_circuit, ground_inductance_matrix
 from stackopt.circuit.filters import filter_circuit
+from stackopt.circuit.interconnect import line_admittance
 from stackopt.circuit.metrics import attenuation_db
 from stackopt.circuit.mna import CHUNK, mna_s_varied
 from stackopt.model.circuit import Circuit
 from stackopt.model.scenario import RobustnessSpec
-from stackopt.physics.synthesis import line_impedance
 from stackopt.search.phenotype import batch_key, unique_rows
+from stackopt.model.geometry import LayerStack
 from stackopt.search.problem import Problem
 from stackopt.search.space import Geometry
 
 __all__ = ["PART_TOLERANCE", "Draws", "MonteCarlo", "draw", "latin_hypercube", "part_impedances",
-           "monte_carlo", "expanded_circuit"]
+           "monte_carlo", "expanded_circuit", "layer_tolerances", "built"]
 
 #: Value tolerance of a part that does not give ``tolerance:`` (± fraction): capacitors
 #: and inductors 5 % (the usual "J" grade of RF chip parts), resistors 1 % (common
@@ -69,16 +81,19 @@ def expanded_circuit(circuit: Circuit) -> Circuit:
 class Draws:
     """Deviations of ``n`` simulated builds (arrays over samples)."""
 
-    thickness: np.ndarray  # (S,) relative
+    thickness: np.ndarray  # (S, K) per dielectric layer, in units of its tolerance
     dk: np.ndarray  # (S,) relative
     etch: np.ndarray  # (S,) m, added to the trace width
     drill: np.ndarray  # (S,) m, added to the drill
     parts: np.ndarray  # (S, E) relative, per element of the expanded circuit
+    #: ± fraction of every layer's thickness when the scenario sets one (``None``: each
+    #: layer's material's own, :func:`layer_tolerances`).
+    thickness_tolerance: float | None = None
 
     @property
     def n(self) -> int:
         """Number of builds S."""
-        return len(self.thickness)
+        return len(self.dk)
 
 
 def latin_hypercube(n: int, d: int, rng: np.random.Generator) -> np.ndarray:
@@ -88,29 +103,30 @@ def latin_hypercube(n: int, d: int, rng: np.random.Generator) -> np.ndarray:
     return (strata + rng.uniform(1e-12, 1.0, size=(n, d))) / n
 
 
-def draw(spec: RobustnessSpec, thickness_tolerance: float, part_tolerance: np.ndarray,
-         seed: int) -> Draws:
+def draw(spec: RobustnessSpec, layers: int, part_tolerance: np.ndarray, seed: int) -> Draws:
     """``spec.samples`` builds from the seed (same seed, same draws, bit for bit).
 
     Parameters
     ----------
     spec : RobustnessSpec
-        Samples, Dk / etch / drill tolerances and the fab distribution.
-    thickness_tolerance : float
-        ± fraction of the dielectric thickness (the fab's, unless ``spec.thickness``).
+        Samples, thickness (if set) / Dk / etch / drill tolerances and the fab
+        distribution.
+    layers : int
+        Dielectric layers K drawn (the space's most); each layer's deviate is in units of
+        its tolerance, scaled per candidate by :func:`layer_tolerances`.
     part_tolerance : ndarray, shape (E,)
         ± fraction of every element's value.
     seed : int
         Seed of the numpy ``Generator`` behind the Latin hypercube.
     """
     tol_e = np.asarray(part_tolerance, dtype=float)
-    u = latin_hypercube(spec.samples, 4 + len(tol_e), np.random.default_rng(seed))
-    fab = u[:, :4]
+    u = latin_hypercube(spec.samples, 3 + layers + len(tol_e), np.random.default_rng(seed))
+    fab = u[:, :3 + layers]
     unit = ndtri(fab) / 3.0 if spec.distribution == "normal" else 2.0 * fab - 1.0
-    tol = np.array([thickness_tolerance, spec.dk, spec.etch, spec.drill])
-    x = unit * tol
-    return Draws(thickness=x[:, 0], dk=x[:, 1], etch=x[:, 2], drill=x[:, 3],
-                 parts=(2.0 * u[:, 4:] - 1.0) * tol_e)
+    return Draws(thickness=unit[:, 3:], dk=unit[:, 0] * spec.dk, etch=unit[:, 1] * spec.etch,
+                 drill=unit[:, 2] * spec.drill,
+                 parts=(2.0 * u[:, 3 + layers:] - 1.0) * tol_e,
+                 thickness_tolerance=spec.thickness)
 
 
 def part_tolerances(circuit: Circuit) -> np.ndarray:
@@ -171,61 +187,66 @@ class MonteCarlo:
         return np.sqrt(p * (1.0 - p) / self.margin.shape[1])
 
 
-def thickness_tolerance(problem: Problem) -> float:
-    """The dielectric thickness tolerance in force: the scenario's, else the fab's."""
-    t = problem.scenario.search.robustness.thickness
-    return problem.table.capabilities.thickness_tolerance if t is None else float(t)
+def layer_tolerances(problem: Problem, g: Geometry, t: float | None = None) -> np.ndarray:
+    """± fraction of every dielectric layer's thickness (N, K): ``t`` (the scenario's
+    ``search.robustness.thickness``) if given, else the layer material's own
+    ``thickness_tolerance``, else the fab's (capabilities)."""
+    shape = g.stack.dielectric.shape
+    if t is not None:
+        return np.full(shape, float(t))
+    default = problem.table.capabilities.thickness_tolerance
+    if g.slot_material is None:
+        return np.full(shape, default)
+    own = problem.table.thickness_tolerances()
+    m = g.slot_material
+    return np.where(m >= 0, own[np.clip(m, 0, None)], default)
 
 
 def build_draws(problem: Problem, seed: int | None = None) -> Draws:
     """The scenario's builds (seed: the search seed)."""
     sc = problem.scenario
-    return draw(sc.search.robustness, thickness_tolerance(problem),
-                part_tolerances(sc.circuit), sc.search.seed if seed is None else seed)
+    return draw(sc.search.robustness, problem.space.n_slots, part_tolerances(sc.circuit),
+                sc.search.seed if seed is None else seed)
 
 
-def _margins(problem: Problem, g: Geometry, model: str, d: Draws) -> np.ndarray:
-    """Margin (P, S) of every candidate in every build: per phenotype, one batch."""
-    gb = problem.ground_batch(g)
-    first, inv = unique_rows(batch_key(gb))  # the circuit's whole input, as the search
-    u, s = len(first), d.n
-    rep = np.repeat(first, s)  # phenotype-major: row = phenotype * S + sample
-    k = np.tile(np.arange(s), u)
-    gb = gb.take(rep)
-    gb = replace(gb, height=gb.height * (1.0 + d.thickness[k]),
-                 drill=np.maximum(gb.drill + d.drill[k], _MIN_DRILL))
-    freqs = problem.freqs
+def built(problem: Problem, g: Geometry, d: Draws) -> tuple[Geometry, np.ndarray]:
+    """Every candidate of ``g`` (P) built ``d.n`` times: the geometry of the P x S boards
+    (candidate-major: row = candidate * S + sample) and each row's sample index."""
+    p, s = len(g), d.n
+    rep, k = np.repeat(np.arange(p), s), np.tile(np.arange(s), p)
+    st = g.stack
+    slots = st.dielectric.shape[1]
+    rel = d.thickness[k, :slots] * layer_tolerances(problem, g, d.thickness_tolerance)[rep]
+    has = st.dielectric[rep] > 0
+    stack = LayerStack(dielectric=st.dielectric[rep] * (1.0 + rel),
+                       er=np.where(has, st.er[rep] * (1.0 + d.dk[k, None]), st.er[rep]),
+                       copper=st.copper[rep], role=st.role[rep])
+    gs = Geometry(stack=stack, drill=np.maximum(g.drill[rep] + d.drill[k], _MIN_DRILL),
+                  vias=g.vias[rep], material_counts=g.material_counts[rep],
+                  flags={m: v[rep] for m, v in g.flags.items()},
+                  slot_material=None if g.slot_material is None else g.slot_material[rep])
+    return gs, k
+
+
+def _margins(problem: Problem, gs: Geometry, k: np.ndarray, model: str, d: Draws
+             ) -> np.ndarray:
+    """Margin (P * S,) of every build, one solve per distinct (circuit input, sample)."""
+    gb = problem.ground_batch(gs, model)
+    first, inv = unique_rows(np.column_stack([batch_key(gb), k]))
+    gb, k = gb.take(first), k[first]
+    freqs, compiled = problem.freqs, problem.compiled
     ze = part_impedances(problem.scenario.circuit, freqs, d.parts)  # (S, F, E)
-    out = np.empty(u * s)
+    out = np.empty(len(first))
     step = max(1, CHUNK // len(freqs))
-    for i0 in range(0, u * s, step):  # chunks bound the memory (not a loop over samples)
+    for i0 in range(0, len(first), step):  # chunks bound the memory (not a loop over samples)
         sl = slice(i0, i0 + step)
-        sub = gb.take(np.arange(u * s)[sl])
-        lg = ground_inductance_matrix(problem.compiled, sub, model)
-        sp = mna_s_varied(problem.compiled, freqs, lg, ze[k[sl]])
+        sub = gb.take(np.arange(len(first))[sl])
+        lg = ground_inductance_matrix(compiled, sub, model)
+        yl = line_admittance(compiled, sub, freqs) if len(compiled.line_length) else None
+        sp = mna_s_varied(compiled, freqs, lg, ze[k[sl]], yl)
         out[sl] = problem.attenuation(attenuation_db(sp))[1]
     out = np.nan_to_num(out, nan=-999.0, posinf=999.0, neginf=-999.0)
-    return out.reshape(u, s)[inv]
-
-
-def _impedances(problem: Problem, g: Geometry, widths: np.ndarray, d: Draws
-                ) -> tuple[np.ndarray, np.ndarray]:
-    """Min and max impedance (P, L) of every controlled line over the builds."""
-    lines = problem.scenario.lines
-    p = len(g)
-    zmin, zmax = np.full((p, len(lines)), np.nan), np.full((p, len(lines)), np.nan)
-    for j, ln in enumerate(lines):  # a handful of lines
-        lb = problem.line_batch(g, j)  # what the width synthesis saw, per candidate
-        h = lb.height[:, None] * (1.0 + d.thickness[None])
-        er = lb.er[:, None] * (1.0 + d.dk[None])
-        t = np.broadcast_to(lb.copper[:, None], h.shape)
-        w = np.maximum(widths[:, j, None] + d.etch[None], _MIN_WIDTH)
-        gap = ln.gap if ln.gap is not None else problem.pour_gap
-        cpw = np.broadcast_to(lb.coplanar[:, None], h.shape)
-        z = np.where(cpw, line_impedance(w, h, er, t, "cpwg", gap=gap),
-                     line_impedance(w, h, er, t, "microstrip"))
-        zmin[:, j], zmax[:, j] = z.min(axis=1), z.max(axis=1)
-    return zmin, zmax
+    return out[inv]
 
 
 def monte_carlo(problem: Problem, g: Geometry, widths: np.ndarray, model: str,
@@ -245,6 +266,10 @@ def monte_carlo(problem: Problem, g: Geometry, widths: np.ndarray, model: str,
     draws : Draws
         From :func:`draw` / :func:`build_draws`.
     """
-    zmin, zmax = _impedances(problem, g, widths, draws)
-    return MonteCarlo(margin=_margins(problem, g, model, draws), impedance_min=zmin,
-                      impedance_max=zmax)
+    p, s = len(g), draws.n
+    gs, k = built(problem, g, draws)
+    rep = np.repeat(np.arange(p), s)
+    w = np.maximum(widths[rep] + draws.etch[k, None], _MIN_WIDTH)  # NaN stays NaN
+    z = problem.line_impedances(gs, w).reshape(p, s, -1)
+    return MonteCarlo(margin=_margins(problem, gs, k, model, draws).reshape(p, s),
+                      impedance_min=z.min(axis=1), impedance_max=z.max(axis=1))

@@ -202,8 +202,9 @@ def _reduced(base: np.ndarray, rhs: np.ndarray, term: np.ndarray, jw: np.ndarray
 
 
 def _with_lines(c: CompiledCircuit, base: np.ndarray, ylines: np.ndarray) -> np.ndarray:
-    """``base`` (F, n, n) plus every candidate's line admittances: (N, F, n, n)."""
-    out = np.repeat(base[None], ylines.shape[0], axis=0)
+    """``base`` (F, n, n) or (N, F, n, n) plus every candidate's line admittances:
+    (N, F, n, n)."""
+    out = np.array(np.broadcast_to(base, (ylines.shape[0],) + base.shape[-3:]))
     for t, (a, b) in enumerate(zip(c.line_a, c.line_b, strict=True)):  # a few lines
         for i, p in enumerate((a, b)):
             for j, q in enumerate((a, b)):
@@ -242,14 +243,18 @@ def mna_s(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray | None, *
 
 
 def mna_s_varied(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray,
-                 ze: np.ndarray) -> np.ndarray:
+                 ze: np.ndarray, ylines: np.ndarray | None = None) -> np.ndarray:
     """S-parameters (N, F, 2, 2) when the parts vary too: element impedances ``ze``
-    (N, F, E) [ohm] (e.g. values drawn within their tolerances) and ground-terminal
-    inductance ``lg`` (N, G, G) [H] per batch member; every whole matrix is solved."""
+    (N, F, E) [ohm] (e.g. values drawn within their tolerances), ground-terminal
+    inductance ``lg`` (N, G, G) [H] and, for a circuit with interconnect lines, their
+    admittances ``ylines`` (as :func:`mna_s`) per batch member; every whole matrix is
+    solved."""
     c = compiled
     f = _check_freqs(freqs)
     jw = 2j * np.pi * f
     base, rhs, term = _assemble(c, f, True, ze)
+    if ylines is not None:
+        base = _with_lines(c, base, ylines)
     out = _full(base, rhs, term, jw, lg, list(c.ports))
     out[..., 0, 0] -= 1.0
     out[..., 1, 1] -= 1.0

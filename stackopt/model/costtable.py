@@ -14,12 +14,20 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Annotated, ClassVar, Literal
 
+import numpy as np
 from pydantic import AfterValidator, BaseModel, Field, field_validator, model_validator
 
 from stackopt.errors import InputError
 from stackopt.model import construction as _construction
 from stackopt.model.construction import Construction
-from stackopt.model.fields import FROZEN, Count, NonNegativeLength, PositiveFloat, PositiveLength
+from stackopt.model.fields import (
+    FROZEN,
+    Count,
+    NonNegativeLength,
+    PositiveFloat,
+    PositiveLength,
+    Tolerance,
+)
 
 __all__ = [
     "TableRuleError", "Price", "Panel", "BasePrice", "Prepreg", "Core", "Materials",
@@ -135,6 +143,9 @@ class _Stocked(BaseModel):
     df: float = Field(ge=0.0, lt=1.0, description="loss tangent")
     per_panel: Price
     name: str | None = Field(None, min_length=1, description="overrides the id suffix")
+    thickness_tolerance: Tolerance | None = Field(
+        None, description="± fraction of this material's pressed thickness; default the "
+        "capabilities' thickness_tolerance")
     _prefix: ClassVar[str] = ""
 
     def _suffix(self) -> str:
@@ -231,17 +242,12 @@ class Capabilities(BaseModel):
     min_dielectric: PositiveLength
     min_drill: PositiveLength
     max_aspect_ratio: PositiveFloat = Field(description="finished thickness : smallest drill")
-    thickness_tolerance: Annotated[float, Field(ge=0.0, lt=0.5)] = Field(
-        description="fraction (0.1 = ±10 %), also the band that counts as a standard thickness")
+    thickness_tolerance: Tolerance = Field(
+        description="fraction (0.1 = ±10 %), also the band that counts as a standard "
+        "thickness, and the default tolerance of every dielectric in the tolerance "
+        "Monte Carlo")
     standard_thicknesses: tuple[PositiveLength, ...] = Field(min_length=1)
     max_thickness: PositiveLength | None = None
-
-    @field_validator("thickness_tolerance", mode="before")
-    @classmethod
-    def _percent(cls, v: object) -> object:
-        if isinstance(v, str) and v.strip().endswith("%"):
-            return float(v.strip()[:-1]) / 100.0
-        return v
 
 
 @dataclass(frozen=True)
@@ -255,6 +261,7 @@ class CatalogueItem:
     df: float
     per_panel: float
     glass: str | None = None
+    thickness_tolerance: float | None = None  # ± fraction; None: the fab's default
 
 
 class CostTable(BaseModel):
@@ -326,7 +333,15 @@ class CostTable(BaseModel):
             (m, "prepreg") for m in self.materials.prepregs]
         rows += [(m, "core") for m in self.materials.cores]
         return tuple(CatalogueItem(m.id, kind, m.thickness, m.dk, m.df, m.per_panel,
-                                   getattr(m, "glass", None)) for m, kind in rows)
+                                   getattr(m, "glass", None), m.thickness_tolerance)
+                     for m, kind in rows)
+
+    def thickness_tolerances(self) -> np.ndarray:
+        """± fraction of every catalogue material's thickness, in catalogue order (M,): its
+        own ``thickness_tolerance``, else the capabilities' one."""
+        default = self.capabilities.thickness_tolerance
+        return np.array([default if m.thickness_tolerance is None else m.thickness_tolerance
+                         for m in self.materials_list()], dtype=float)
 
     def material_index(self, material_id: str) -> int:
         """Column of ``material_id`` in the catalogue; ``KeyError`` naming the ids if absent."""

@@ -107,3 +107,19 @@ Voltage = Annotated[float, _parser("voltage"), AfterValidator(_non_negative)]
 PositiveFloat = Annotated[float, _parser("dimensionless"), AfterValidator(_positive)]
 NonNegativeFloat = Annotated[float, _parser("dimensionless"), AfterValidator(_non_negative)]
 Decibel = Annotated[float, _parser("decibel")]
+
+
+def _tolerance(v: object) -> float:
+    x = parse_quantity(v, "dimensionless")
+    if not 0.0 <= x < 0.5:
+        bare = isinstance(v, int | float) and 0.5 <= x < 50
+        hint = f" (did you mean {x:g} %?)" if bare else ""
+        raise ValueError(f"a tolerance is a fraction from 0 to under 50 %, got {x:g}{hint}; "
+                         "write it as e.g. '10 %' or 0.1")
+    return x
+
+
+_tolerance.dimension = "dimensionless"  # type: ignore[attr-defined]  # read by dimension_of
+
+#: A ± tolerance as a fraction of the nominal value (``"10 %"`` or ``0.1``), below 50 %.
+Tolerance = Annotated[float, BeforeValidator(_tolerance)]

@@ -26,7 +26,7 @@ from typing import Any, Literal, get_args
 import numpy as np
 
 __all__ = ["LINE_TYPES", "PAIR_TYPES", "SOLVERS", "LineSpec", "closed_form", "field",
-           "line_width"]
+           "line_width", "sized_impedance"]
 
 LineType = Literal["microstrip", "stripline", "cpwg", "diff-microstrip", "diff-stripline"]
 #: Line type names, as the scenario and ``calc line`` spell them.
@@ -145,6 +145,34 @@ def field(spec: LineSpec, w: float, resolution: float = 1.0) -> dict[str, float]
     return out
 
 
+def _synthesis_form(spec: LineSpec) -> tuple[Any, Any, str, dict[str, Any]]:
+    """``(h, er, kind, options)`` of the closed form that sizes ``spec``
+    (:data:`~stackopt.physics.synthesis.LINE_KINDS`): between planes the plane spacing,
+    mean Dk and offset; a pair between planes by the centred Cohn form (an offset pair
+    starts from it too)."""
+    if spec.type in STRIPLINE_TYPES:
+        b, off, er = spec.stripline_equivalent()
+        if spec.pair:
+            return b, er, "coupled_stripline", {"s": spec.s}
+        return b, er, "stripline", {"offset": off}
+    if spec.type == "cpwg":
+        return spec.h, spec.er, "cpwg", {"gap": spec.gap}
+    if spec.pair:
+        return spec.h, spec.er, "coupled_microstrip", {"s": spec.s}
+    return spec.h, spec.er, "microstrip", {"model": spec.model}
+
+
+def sized_impedance(spec: LineSpec, w) -> np.ndarray:
+    """The impedance :func:`line_width` sizes for, at width ``w`` [m]: Z0 [ohm], or
+    Z_diff for a pair, by the same closed form (arrays broadcast; so a width from
+    :func:`line_width` gives back its target, and a perturbed cross-section the
+    impedance a build really gets)."""
+    from stackopt.physics.synthesis import line_impedance
+
+    h, er, kind, kw = _synthesis_form(spec)
+    return line_impedance(w, h, er, spec.t, kind, **kw)  # type: ignore[arg-type]
+
+
 def line_width(spec: LineSpec, target, w_min=10e-6, w_max=50e-3,
                solver: str = "closed-form") -> tuple[np.ndarray, np.ndarray]:
     """Width [m] at which the line reaches ``target`` [ohm] (Z0; Z_diff for pairs).
@@ -156,24 +184,8 @@ def line_width(spec: LineSpec, target, w_min=10e-6, w_max=50e-3,
     """
     from stackopt.physics.synthesis import synthesize_width
 
-    if spec.type in STRIPLINE_TYPES:
-        b, off, er = spec.stripline_equivalent()
-        if spec.pair:
-            # the centred Cohn form sizes the pair; an offset pair starts from it too
-            w, ok = synthesize_width(target, b, er, spec.t, "coupled_stripline", w_min,
-                                     w_max, s=spec.s)
-        else:
-            w, ok = synthesize_width(target, b, er, spec.t, "stripline", w_min, w_max,
-                                     offset=off)
-    elif spec.type == "cpwg":
-        w, ok = synthesize_width(target, spec.h, spec.er, spec.t, "cpwg", w_min, w_max,
-                                 gap=spec.gap)
-    elif spec.pair:
-        w, ok = synthesize_width(target, spec.h, spec.er, spec.t, "coupled_microstrip",
-                                 w_min, w_max, s=spec.s)
-    else:
-        w, ok = synthesize_width(target, spec.h, spec.er, spec.t, "microstrip", w_min,
-                                 w_max, model=spec.model)
+    h, er, kind, kw = _synthesis_form(spec)
+    w, ok = synthesize_width(target, h, er, spec.t, kind, w_min, w_max, **kw)
     if solver == "closed-form" or not bool(np.all(ok)):
         return w, ok
     from stackopt.physics.fieldlines import field_width

@@ -9,6 +9,7 @@ candidate is priced.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from functools import cached_property
 
@@ -21,7 +22,7 @@ from stackopt.cost import PriceBatch, price
 from stackopt.model.costtable import BoardOrder, CostTable
 from stackopt.model.routing import line_layer, line_section
 from stackopt.model.scenario import Scenario
-from stackopt.physics.linetypes import STRIPLINE_TYPES, LineSpec, line_width
+from stackopt.physics.linetypes import STRIPLINE_TYPES, LineSpec, line_width, sized_impedance
 from stackopt.search.memo import ResponseMemo
 from stackopt.search.phenotype import LineBatch, batch_key, unique_rows
 from stackopt.search.space import Candidates, DielectricOptions, Geometry, Space
@@ -294,18 +295,38 @@ class Problem:
         picks' widths afterwards: :mod:`stackopt.analyses.lines`)."""
         lines = self.scenario.lines
         out = np.full((len(g), len(lines)), np.nan)
-        for j, _ in enumerate(lines):  # a handful of lines
+        for j, ln in enumerate(lines):  # a handful of lines
             lb = self.line_batch(g, j)
             first, inv = unique_rows(batch_key(lb))
-            u = lb.take(first)
-            w = np.full(len(first), np.nan)
-            for cpw in (False, True):  # the pour changes the kind: one call per kind
-                sel = (u.coplanar == cpw) & (u.layer >= 0)
-                if sel.any():
-                    wk, ok = line_width(self.line_spec(j, u.take(np.flatnonzero(sel))),
-                                        lines[j].target, *WIDTH_RANGE)
-                    w[sel] = np.where(ok, wk, np.nan)
-            out[:, j] = w[inv]
+
+            def size(spec: LineSpec, rows: np.ndarray, target: float = ln.target
+                     ) -> np.ndarray:
+                w, ok = line_width(spec, target, *WIDTH_RANGE)
+                return np.where(ok, w, np.nan)
+
+            out[:, j] = self._per_kind(j, lb.take(first), size)[inv]
+        return out
+
+    def line_impedances(self, g: Geometry, widths: np.ndarray) -> np.ndarray:
+        """Impedance [ohm] (N, lines) of every controlled-impedance line at ``widths`` [m]
+        (N, lines) on each candidate's cross-section: Z0, or Z_diff for a pair, by the
+        closed form that sizes it (:func:`~stackopt.physics.linetypes.sized_impedance`);
+        NaN where the line has no layer or no width."""
+        out = np.full((len(g), len(self.scenario.lines)), np.nan)
+        for j in range(len(self.scenario.lines)):  # a handful of lines
+            out[:, j] = self._per_kind(j, self.line_batch(g, j),
+                                       lambda spec, rows: sized_impedance(spec, widths[rows, j]))
+        return out
+
+    def _per_kind(self, line: int, lb: LineBatch,
+                  fn: Callable[[LineSpec, np.ndarray], np.ndarray]) -> np.ndarray:
+        """``fn(spec, rows)`` on the rows of ``lb`` where line ``line`` has a layer, one
+        call per line kind (a coplanar pour makes a microstrip a cpwg); NaN elsewhere."""
+        out = np.full(len(lb.layer), np.nan)
+        for cpw in (False, True):
+            rows = np.flatnonzero((lb.coplanar == cpw) & (lb.layer >= 0))
+            if len(rows):
+                out[rows] = fn(self.line_spec(line, lb.take(rows)), rows)
         return out
 
     # ---- everything ------------------------------------------------------------------

@@ -115,6 +115,9 @@ class Geometry:
     vias: np.ndarray  # (N,) int, vias per ground connection
     material_counts: np.ndarray  # (N, M) plies / cores per catalogue item
     flags: dict[str, np.ndarray] = field(default_factory=dict)  # mitigation -> (N,) bool
+    #: (N, S) catalogue index of every dielectric slot's material, -1: none or unknown
+    #: (the tolerance Monte Carlo reads each material's thickness tolerance by it).
+    slot_material: np.ndarray | None = None
 
     def __len__(self) -> int:
         return len(self.drill)
@@ -239,6 +242,7 @@ class Space:
         t = np.zeros((n, S))
         er = np.ones((n, S))
         counts = np.zeros((n, self.n_materials), dtype=np.int64)
+        material = np.full((n, S), -1, dtype=np.int64)
         rows = np.arange(n)
         for kind, mask in (("core", is_core), ("prepreg", used & ~is_core)):
             o = self.options[kind]
@@ -247,6 +251,7 @@ class Space:
             idx = np.where(mask, c.slot, 0)
             t = np.where(mask, o.thickness[idx], t)
             er = np.where(mask, o.er[idx], er)
+            material = np.where(mask, o.material[idx], material)
             for s in range(S):
                 m = mask[:, s]
                 np.add.at(counts, (rows[m], o.material[idx[m, s]]), o.count[idx[m, s]])
@@ -258,6 +263,7 @@ class Space:
             stack=stack, drill=np.asarray(self.drills)[c.drill],
             vias=np.asarray(self.vias)[c.vias], material_counts=counts,
             flags={m: c.mit[:, i] for i, m in enumerate(self.mitigations)},
+            slot_material=material,
         )
 
     @cached_property

@@ -1,0 +1,238 @@
+"""Tolerance Monte Carlo: per-material thickness tolerances and the impedance spread of
+every line type (stackopt.analyses.tolerances).
+
+Outside references:
+- the yield of a build whose margin falls monotonically with one toleranced thickness is
+  the probability that the thickness stays below the crossing: the normal CDF
+  (``scipy.special.ndtr``, the tolerance read as 3 sigma) or the uniform CDF; the Monte
+  Carlo must land within its binomial standard error sqrt(p (1 - p) / n);
+- microstrip impedance over the drawn builds against scikit-rf's ``MLine``
+  (Hammerstad-Jensen, qucs compatibility, no dispersion) at each build's height, Dk and
+  etched width;
+- a line between two planes in one homogeneous dielectric is a TEM line, so scaling the
+  Dk of every layer by (1 + d) scales its impedance by exactly 1 / sqrt(1 + d) (D. M.
+  Pozar, Microwave Engineering, 4th ed., Wiley 2012, sec. 3.8 on stripline as a TEM
+  line).
+Scenarios and cost tables are the invented demo files, edited inline.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import pytest
+import yaml
+from scipy.special import ndtr
+
+import stackopt
+from stackopt.analyses.tolerances import build_draws, built, layer_tolerances, monte_carlo
+from stackopt.circuit import solve
+from stackopt.circuit.metrics import attenuation_db
+from stackopt.inputs.costtable import load_cost_table
+from stackopt.inputs.scenario import load_scenario
+from stackopt.search.exact import exact_candidates
+from stackopt.search.problem import Problem
+
+ROOT = Path(__file__).resolve().parents[1]
+TWO = ROOT / "scenarios" / "two_layer_only.yaml"
+MIXED = ROOT / "scenarios" / "lines_mixed.yaml"
+TABLE = ROOT / "cost_tables" / "quickturn.yaml"
+
+
+def _yaml(tmp_path: Path, name: str, source: Path, edit) -> Path:
+    data = yaml.safe_load(source.read_text(encoding="utf-8"))
+    data.pop("cost_table", None)
+    edit(data)
+    p = tmp_path / name
+    p.write_text(yaml.safe_dump(data, sort_keys=False), encoding="utf-8")
+    return p
+
+
+def _table(tmp_path: Path, prepreg_tol: dict[str, str], core_tol: str | None = None,
+           name: str = "t.yaml") -> Path:
+    def edit(d):
+        for p in d["materials"]["prepregs"]:
+            if p["glass"] in prepreg_tol:
+                p["thickness_tolerance"] = prepreg_tol[p["glass"]]
+        if core_tol is not None:
+            for c in d["materials"]["cores"]:
+                c["thickness_tolerance"] = core_tol
+    return _yaml(tmp_path, name, TABLE, edit)
+
+
+def _four_layer_problem(tmp_path: Path, table: Path, required_db: float, rb: dict
+                        ) -> Problem:
+    """One 100 pF shunt capacitor through one ground via on a four-layer board: the via
+    crosses only the top prepreg when the ground plane is L2."""
+    def edit(d):
+        d["circuit"] = {"z0": "50 ohm", "input": "a", "output": "b", "elements": [
+            {"name": "C1", "type": "C", "value": "100 pF", "between": ["a", "gnd"],
+             "ground": "g1", "tolerance": 0},
+            {"name": "R1", "type": "R", "value": "0 ohm", "between": ["a", "b"],
+             "tolerance": 0}],
+            "grounds": [{"name": "g1", "at": ["0 mm", "0 mm"]}]}
+        d["requirements"] = [{"frequency": "6 GHz", "min_attenuation": f"{required_db} dB"}]
+        d["lines"] = []
+        d["space"] = {"layers": [4], "copper": ["1 oz"], "drills": ["0.3 mm"],
+                      "vias_per_ground": [1]}
+        d["search"] = {"objective": "margin", "robustness": rb}
+    sc = _yaml(tmp_path, f"s{required_db:.6f}.yaml", TWO, edit)
+    return Problem(load_scenario(sc), load_cost_table(table))
+
+
+@pytest.mark.parametrize("dist", ["normal", "uniform"])
+def test_per_material_tolerance_gives_the_analytic_yield(tmp_path, dist):
+    rb = {"samples": 400, "dk": 0, "etch": "0 mm", "drill": "0 mm", "distribution": dist}
+    tol = 0.03  # the 2116 prepreg's own; the fab's default stays 10 %
+    table = _table(tmp_path, {"2116": "3 %"})
+    p0 = _four_layer_problem(tmp_path, table, 10.0, rb)
+    reps = exact_candidates(p0).representatives
+    g_all = p0.space.geometry(reps)
+    pp = p0.table.material_index("pp-2116")
+    one_ply = np.isclose(g_all.via_height, 0.115e-3, rtol=1e-6)
+    rows = np.flatnonzero((g_all.slot_material[:, 0] == pp) & one_ply)
+    assert len(rows)  # a board whose vias cross one 2116 ply to L2
+    g = p0.space.geometry(reps.take(rows[:1]))
+    assert layer_tolerances(p0, g)[0, 0] == pytest.approx(tol)
+    assert p0.table.capabilities.thickness_tolerance == pytest.approx(0.10)
+    gb = p0.ground_batch(g)
+
+    def att(x: float) -> float:  # attenuation with that prepreg (1 + x) thick
+        b = replace(gb, height=gb.height * (1 + x))
+        return float(attenuation_db(solve(p0.compiled, p0.freqs, b))[0, 0])
+
+    rising = att(-0.02) < att(0.0) < att(0.02)  # below the series resonance here
+    assert rising or att(-0.02) > att(0.0) > att(0.02)  # monotone either way
+    x = 0.02  # the requirement is met exactly at +2 % thickness
+
+    def cdf(t: float) -> float:  # P(thickness deviation <= x) at tolerance t
+        c = float(ndtr(x / (t / 3))) if dist == "normal" else (x + t) / (2 * t)
+        return 1.0 - c if rising else c
+
+    p = _four_layer_problem(tmp_path, table, att(x), rb)
+    mc = monte_carlo(p, g, np.zeros((1, 0)), "goldfarb-pucel", build_draws(p))
+    n = rb["samples"]
+    exact = cdf(tol)
+    se = math.sqrt(exact * (1 - exact) / n)
+    assert mc.yields[0] == pytest.approx(exact, abs=3 * se + 1 / n)
+    # with the fab's 10 % the same board would have a clearly different yield
+    assert abs(cdf(0.10) - exact) > 6 * se
+    # another material's tolerance (every core, the other prepregs) changes nothing
+    other = _table(tmp_path, {"106": "20 %", "1080": "1 %", "7628": "40 %"}, "25 %",
+                   name="other.yaml")
+    table2 = _yaml(tmp_path, "t2.yaml", other, lambda d: [
+        p.update(thickness_tolerance="3 %") for p in d["materials"]["prepregs"]
+        if p["glass"] == "2116"])
+    p2 = Problem(p.scenario, load_cost_table(table2))
+    mc2 = monte_carlo(p2, g, np.zeros((1, 0)), "goldfarb-pucel", build_draws(p2))
+    assert np.array_equal(mc.margin, mc2.margin)
+    # a scenario tolerance overrides every material's
+    over = p.scenario.model_copy(update={"search": p.scenario.search.model_copy(update={
+        "robustness": p.scenario.search.robustness.model_copy(update={"thickness": 0.1})})})
+    d_over = build_draws(Problem(over, p.table))
+    assert np.all(layer_tolerances(p, g, d_over.thickness_tolerance) == 0.1)
+
+
+def test_every_layer_draws_its_own_thickness(tmp_path):
+    table = _table(tmp_path, {"2116": "3 %"}, "6 %")
+    p = _four_layer_problem(tmp_path, table, 10.0, {"samples": 64})
+    reps = exact_candidates(p).representatives
+    g = p.space.geometry(reps.take(np.arange(min(8, len(reps)))))
+    d = build_draws(p)
+    gs, k = built(p, g, d)
+    rel = gs.stack.dielectric / np.repeat(g.stack.dielectric, d.n, axis=0) - 1.0
+    tol = np.repeat(layer_tolerances(p, g), d.n, axis=0)
+    used = np.repeat(g.stack.dielectric, d.n, axis=0) > 0
+    assert np.allclose(rel[used], (d.thickness[k][:, :tol.shape[1]] * tol)[used])
+    assert not np.allclose(rel[:, 0], rel[:, 1])  # layers are drawn independently
+
+
+# ---- impedance spread of every line type ------------------------------------------------
+@pytest.fixture(scope="module")
+def mixed():
+    return stackopt.optimize(MIXED)
+
+
+def test_summary_and_report_carry_every_lines_impedance_range(mixed):
+    r = mixed
+    s = r.to_summary()
+    names = [ln.name for ln in r.problem.scenario.lines]
+    types = {ln.type for ln in r.problem.scenario.lines}
+    assert {"microstrip", "stripline", "diff-microstrip"} <= types
+    recs = list(s["front"]) + [v for v in s["picks"].values() if v is not None]
+    assert recs
+    for rec in recs:
+        zr = rec["impedance_range_ohm"]
+        assert set(zr) == set(names)
+        for ln in r.problem.scenario.lines:
+            lo, hi = zr[ln.name]
+            assert lo is not None and hi is not None, (rec["id"], ln.name)
+            assert lo < ln.target < hi  # the builds straddle the target
+    from stackopt.outputs.report import report_document
+
+    text = repr(report_document(r))
+    assert all(f"{n} " in text for n in names) and "ohm" in text
+
+
+def test_zero_tolerance_gives_the_target_on_every_line_type(mixed):
+    r = mixed
+    p = r.problem
+    rb = p.scenario.search.robustness.model_copy(update={
+        "samples": 16, "thickness": 0.0, "dk": 0.0, "etch": 0.0, "drill": 0.0})
+    d = build_draws(Problem(p.scenario.model_copy(update={
+        "search": p.scenario.search.model_copy(update={"robustness": rb})}), p.table))
+    idx = np.flatnonzero(r.on_front)
+    g = p.space.geometry(r.candidates.take(idx))
+    mc = monte_carlo(p, g, r.evaluation.widths[idx], p.scenario.search.via_model, d)
+    target = np.array([ln.target for ln in p.scenario.lines])
+    ok = np.isfinite(r.evaluation.widths[idx])
+    assert ok.all()
+    assert np.allclose(mc.impedance_min, target, rtol=1e-5)
+    assert np.allclose(mc.impedance_max, target, rtol=1e-5)
+
+
+def test_stripline_spread_under_dk_alone_is_the_tem_scaling(mixed):
+    """Only the Dk varies: a line between planes scales as 1 / sqrt(1 + d)."""
+    r = mixed
+    p = r.problem
+    rb = p.scenario.search.robustness.model_copy(update={
+        "samples": 64, "thickness": 0.0, "dk": 0.08, "etch": 0.0, "drill": 0.0})
+    sc = p.scenario.model_copy(update={"search": p.scenario.search.model_copy(update={
+        "robustness": rb})})
+    d = build_draws(Problem(sc, p.table))
+    idx = np.flatnonzero(r.on_front)[:6]
+    g = p.space.geometry(r.candidates.take(idx))
+    mc = monte_carlo(p, g, r.evaluation.widths[idx], p.scenario.search.via_model, d)
+    j = [ln.type for ln in p.scenario.lines].index("stripline")
+    z0 = p.scenario.lines[j].target
+    assert np.allclose(mc.impedance_min[:, j], z0 / math.sqrt(1 + d.dk.max()), rtol=1e-5)
+    assert np.allclose(mc.impedance_max[:, j], z0 / math.sqrt(1 + d.dk.min()), rtol=1e-5)
+
+
+def test_microstrip_spread_matches_scikit_rf(tmp_path):
+    skrf = pytest.importorskip("skrf")
+    from skrf.media import MLine
+
+    sc = _yaml(tmp_path, "two.yaml", TWO, lambda d: d["space"].update(
+        mitigations=[]))  # no coplanar pour: the line stays a microstrip
+    p = Problem(load_scenario(sc), load_cost_table(TABLE))
+    reps = exact_candidates(p).representatives
+    g = p.space.geometry(reps.take(np.arange(min(3, len(reps)))))
+    widths = p.line_widths(g)
+    d = build_draws(p)
+    mc = monte_carlo(p, g, widths, p.scenario.search.via_model, d)
+    gs, k = built(p, g, d)
+    freq = skrf.Frequency(1, 1, 1, unit="GHz")
+    for i in range(len(g)):  # a few candidates, each build through scikit-rf
+        rows = np.arange(i * d.n, (i + 1) * d.n)
+        h, er = gs.trace_height[rows], gs.trace_er[rows]
+        w = widths[i, 0] + d.etch
+        z = [float(np.real(MLine(frequency=freq, w=w[s], h=h[s], t=g.copper[i], ep_r=er[s],
+                                 model="hammerstadjensen", disp="none", diel="frequencyinvariant",
+                                 rough=0, tand=0, compatibility_mode="qucs").z0_characteristic[0]))
+             for s in range(d.n)]
+        assert mc.impedance_min[i, 0] == pytest.approx(min(z), rel=1e-6)
+        assert mc.impedance_max[i, 0] == pytest.approx(max(z), rel=1e-6)
