@@ -51,9 +51,9 @@ from stackopt.circuit.interconnect import line_admittance
 from stackopt.circuit.metrics import attenuation_db
 from stackopt.circuit.mna import CHUNK, mna_s_varied
 from stackopt.model.circuit import Circuit
+from stackopt.model.geometry import LayerStack
 from stackopt.model.scenario import RobustnessSpec
 from stackopt.search.phenotype import batch_key, unique_rows
-from stackopt.model.geometry import LayerStack
 from stackopt.search.problem import Problem
 from stackopt.search.space import Geometry
 

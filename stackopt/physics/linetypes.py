@@ -21,9 +21,12 @@ it takes the two dielectrics, the offset and the solder mask as they are.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any, Literal, get_args
+from typing import TYPE_CHECKING, Any, Literal, get_args
 
 import numpy as np
+
+if TYPE_CHECKING:
+    from stackopt.physics.synthesis import LineKind
 
 __all__ = ["LINE_TYPES", "PAIR_TYPES", "SOLVERS", "LineSpec", "closed_form", "field",
            "line_width", "sized_impedance"]
@@ -145,7 +148,7 @@ def field(spec: LineSpec, w: float, resolution: float = 1.0) -> dict[str, float]
     return out
 
 
-def _synthesis_form(spec: LineSpec) -> tuple[Any, Any, str, dict[str, Any]]:
+def _synthesis_form(spec: LineSpec) -> tuple[Any, Any, LineKind, dict[str, Any]]:
     """``(h, er, kind, options)`` of the closed form that sizes ``spec``
     (:data:`~stackopt.physics.synthesis.LINE_KINDS`): between planes the plane spacing,
     mean Dk and offset; a pair between planes by the centred Cohn form (an offset pair
@@ -170,7 +173,7 @@ def sized_impedance(spec: LineSpec, w) -> np.ndarray:
     from stackopt.physics.synthesis import line_impedance
 
     h, er, kind, kw = _synthesis_form(spec)
-    return line_impedance(w, h, er, spec.t, kind, **kw)  # type: ignore[arg-type]
+    return line_impedance(w, h, er, spec.t, kind, **kw)
 
 
 def line_width(spec: LineSpec, target, w_min=10e-6, w_max=50e-3,

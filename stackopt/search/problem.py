@@ -314,8 +314,12 @@ class Problem:
         NaN where the line has no layer or no width."""
         out = np.full((len(g), len(self.scenario.lines)), np.nan)
         for j in range(len(self.scenario.lines)):  # a handful of lines
-            out[:, j] = self._per_kind(j, self.line_batch(g, j),
-                                       lambda spec, rows: sized_impedance(spec, widths[rows, j]))
+            col = widths[:, j]
+
+            def z(spec: LineSpec, rows: np.ndarray, col: np.ndarray = col) -> np.ndarray:
+                return sized_impedance(spec, col[rows])
+
+            out[:, j] = self._per_kind(j, self.line_batch(g, j), z)
         return out
 
     def _per_kind(self, line: int, lb: LineBatch,
