@@ -33,8 +33,22 @@ def test_a_job_error_reaches_the_caller(monkeypatch):
         parallel.render({"a": lambda: b"x", "b": bad})
 
 
+def test_meanwhile_runs_in_this_process_beside_the_jobs(monkeypatch):
+    import os
+
+    jobs = {"a": lambda: str(os.getpid()).encode(), "b": lambda: str(os.getpid()).encode()}
+    for n in ("1", "2"):
+        monkeypatch.setenv("STACKOPT_JOBS", n)
+        out, mine = parallel.render(jobs, meanwhile=os.getpid)
+        assert mine == os.getpid()
+        in_parent = {k: v == str(os.getpid()).encode() for k, v in out.items()}
+        forked = parallel.workers(2) == 2
+        assert in_parent == {"a": not forked, "b": not forked}
+
+
 def test_jobs_returning_several_files_are_merged_in_order(monkeypatch):
     for n in ("1", "2"):
         monkeypatch.setenv("STACKOPT_JOBS", n)
-        out = parallel.render({"a": lambda: {"a.png": b"1", "a.svg": b"2"}, "b": lambda: b"3"})
+        out, _ = parallel.render({"a": lambda: {"a.png": b"1", "a.svg": b"2"},
+                                  "b": lambda: b"3"})
         assert list(out.items()) == [("a.png", b"1"), ("a.svg", b"2"), ("b", b"3")]

@@ -38,7 +38,6 @@ from dataclasses import dataclass
 
 import numpy as np
 from numpy.polynomial import polynomial as P
-from scipy import signal
 
 __all__ = ["EllipticPrototype", "elliptic_prototype"]
 
@@ -61,6 +60,8 @@ class EllipticPrototype:
 
 def _polys(n: int, ripple: float, stop: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """E, N, F as ascending real coefficient arrays (F monic, sign +)."""
+    from scipy import signal  # lazy: scipy.signal costs ~0.7 s to import; only elliptic designs need it
+
     z, p, k = signal.ellipap(n, ripple, stop)
     e = np.real(P.polyfromroots(p))
     nn = np.real(k * P.polyfromroots(z))
@@ -176,6 +177,8 @@ def elliptic_prototype(n: int, ripple: float, stop: float, first: str = "shunt"
     """
     if n % 2 == 0 or not 3 <= n <= 11:
         raise ValueError(f"elliptic order must be odd, 3-11 (got {n})")
+    from scipy import signal  # lazy, see _polys
+
     e, _, f = _polys(n, ripple, stop)
     z, _, _ = signal.ellipap(n, ripple, stop)
     notches = np.sort(np.unique(np.round(np.abs(np.imag(z)), 12)))

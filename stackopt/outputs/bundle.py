@@ -86,27 +86,29 @@ def render_all(result, extra_summary: dict | None = None, sweep=None) -> dict[st
         jobs["mitigations"] = lambda: figure_bytes(plot_mitigations(ladder, result), "png")
     if sweep is not None:
         jobs["quantities"] = lambda: figure_bytes(plot_quantities(sweep), "png")
-    done = render(jobs)  # name -> bytes (a job may give several files)
-    out: dict[str, bytes] = {
-        "summary.json": summary_json(result, extra).encode("utf-8"),
-        "candidates.csv": done.pop("candidates.csv"),
-        "front.csv": front_csv(result).encode("utf-8"),
-        "pareto.svg": done.pop("pareto.svg"),
-    }
-    images = done
-    if ladder is not None:
-        out["mitigations.csv"] = mitigations_csv(ladder).encode("utf-8")
+    def texts() -> dict[str, bytes]:  # this process's share while the workers draw
+        out = {"summary.json": summary_json(result, extra).encode("utf-8"),
+               "front.csv": front_csv(result).encode("utf-8")}
+        if ladder is not None:
+            out["mitigations.csv"] = mitigations_csv(ladder).encode("utf-8")
+        out["report.md"] = report_markdown(result, IMAGE_FILES, sweep).encode("utf-8")
+        out["selected.yaml"] = selected_yaml(result).encode("utf-8")
+        i = selected_index(result)
+        if i is not None:
+            out["selected.s2p"] = _touchstone(result, i).encode("ascii")
+        out.update((k, v.encode("utf-8")) for k, v in stackup_files(result).items())
+        return out
+
+    images, out = render(jobs, meanwhile=texts)  # name -> bytes (a job may give several)
+    assert out is not None
+    out["candidates.csv"] = images.pop("candidates.csv")
+    out["pareto.svg"] = images.pop("pareto.svg")
     out["report.html"] = report_html(result, images, sweep).encode("utf-8")
-    out["report.md"] = report_markdown(result, IMAGE_FILES, sweep).encode("utf-8")
     for key, name in IMAGE_FILES.items():
         if key in images:
             out[name] = images[key]
-    out["selected.yaml"] = selected_yaml(result).encode("utf-8")
-    i = selected_index(result)
-    if i is not None:
-        out["selected.s2p"] = _touchstone(result, i).encode("ascii")
     files = {name: out[name] for name in FILES if name in out}
-    files.update((k, v.encode("utf-8")) for k, v in stackup_files(result).items())
+    files.update((k, v) for k, v in out.items() if k not in files)  # stackups/<ID>.yaml
     return files
 
 

@@ -7,8 +7,13 @@ inherit the search result and the libraries already imported, so nothing is pick
 the job's name and its bytes. Each job draws from the same data as it would in one
 process, so the files are byte-identical to a serial run (``tests/test_outputs_parallel``).
 
+While the workers draw, this process does its own share (``meanwhile``: the summary,
+the tables, the stackup files), so a run's last phase takes about the time of its longest
+share instead of the sum.
+
 Where ``fork`` is not available (Windows, or a macOS default) or only one core is free,
-the jobs run in this process, in order. ``STACKOPT_JOBS=1`` forces that.
+the jobs run in this process, in order, after ``meanwhile``. ``STACKOPT_JOBS=1`` forces
+that.
 """
 
 from __future__ import annotations
@@ -16,10 +21,12 @@ from __future__ import annotations
 import multiprocessing
 import os
 from collections.abc import Callable, Mapping
+from typing import TypeVar
 
 __all__ = ["render", "workers"]
 
 Job = Callable[[], "bytes | dict[str, bytes]"]
+T = TypeVar("T")
 
 #: The jobs of the current :func:`render` call, as a forked worker inherits them (set in
 #: the parent only for the lifetime of its pool; a worker reads it, never writes it).
@@ -50,17 +57,21 @@ def _merge(results: Mapping[str, bytes | dict[str, bytes]]) -> dict[str, bytes]:
     return out
 
 
-def render(jobs: Mapping[str, Job]) -> dict[str, bytes]:
+def render(jobs: Mapping[str, Job], meanwhile: Callable[[], T] | None = None
+           ) -> tuple[dict[str, bytes], T | None]:
     """Every job's bytes, by name, in the order of ``jobs`` (a job returning a dict
-    contributes its entries instead).
+    contributes its entries instead), and the value of ``meanwhile()``.
 
-    Runs in ``workers(len(jobs))`` forked processes; an exception in a job is raised here
-    (as it would be serially).
+    The jobs run in ``workers(len(jobs))`` forked processes while this process calls
+    ``meanwhile`` (forked first: nothing ``meanwhile`` computes or caches reaches a job,
+    as in a serial run where each job reads only the result). An exception in a job is
+    raised here (as it would be serially).
     """
     global _JOBS
     n = workers(len(jobs))
     if n <= 1:
-        return _merge({name: job() for name, job in jobs.items()})
+        mine = meanwhile() if meanwhile is not None else None
+        return _merge({name: job() for name, job in jobs.items()}), mine
     from concurrent.futures import ProcessPoolExecutor
 
     _JOBS = jobs
@@ -68,6 +79,7 @@ def render(jobs: Mapping[str, Job]) -> dict[str, bytes]:
         with ProcessPoolExecutor(max_workers=n,
                                  mp_context=multiprocessing.get_context("fork")) as pool:
             futures = {name: pool.submit(_run, name) for name in jobs}
-            return _merge({name: f.result() for name, f in futures.items()})
+            mine = meanwhile() if meanwhile is not None else None
+            return _merge({name: f.result() for name, f in futures.items()}), mine
     finally:
         _JOBS = {}
