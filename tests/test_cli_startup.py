@@ -76,3 +76,16 @@ def test_unknown_command_is_a_one_line_error(capsys):
     assert main(["optimise"]) == 2
     err = capsys.readouterr().err
     assert "invalid choice" in err and "optimize" in err and len(err.strip().splitlines()) == 1
+
+
+def test_only_elliptic_designs_import_scipy_signal():
+    # scipy.signal takes about 0.7 s to import; a Chebyshev design must not pay for it
+    probe = ("import sys, stackopt\n"
+             "from stackopt.inputs.scenario import load_scenario\n"
+             "from stackopt.circuit.compile import compile_circuit\n"
+             "sc = load_scenario(sys.argv[1])\n"
+             "compile_circuit(sc.circuit)\n"
+             "print('scipy.signal' in sys.modules)")
+    proc = subprocess.run([sys.executable, "-c", probe, "scenarios/harmonic_lowpass.yaml"],
+                          capture_output=True, text=True, timeout=120)
+    assert proc.stdout.strip() == "False", proc.stderr[-2000:]
