@@ -198,8 +198,6 @@ def test_report_and_plot_carry_the_robustness(two_layer):
     from stackopt.outputs.plots import figure_bytes
     from stackopt.outputs.plots_robust import plot_robustness
     from stackopt.outputs.report import report_document
-    from stackopt.outputs.report_robust import margin_cell
-    from stackopt.outputs.robust_text import MODEL_MARK
 
     r = two_layer
     png = figure_bytes(plot_robustness(r), "png")
@@ -207,12 +205,59 @@ def test_report_and_plot_carry_the_robustness(two_layer):
     blocks = report_document(r)
     assert ("img", "robustness") in [b[:2] for b in blocks]
     assert any(b[0] == "h2" and "uncertainty" in b[1] for b in blocks)
-    # a pick whose margins differ by more than 3 dB between models is marked wherever shown
-    i = next(i for i in r.picks.values() if i is not None)
+
+
+def _marked(r, i: int, spread_db: float):
+    """``r`` with candidate ``i``'s margins over the via models ``spread_db`` apart."""
     spread = {m: v.copy() for m, v in r.spread.items()}
-    first = next(iter(spread))
-    spread[first][i] = r.evaluation.margin[i] + 5.0
-    marked = replace(r, spread=spread)
-    assert margin_cell(marked, i).endswith(MODEL_MARK)
-    assert r.record(i)["model_dependent"] == (r.record(i)["model_spread_dB"] > 3.0)
-    assert marked.record(i)["model_dependent"]
+    for m in spread:
+        spread[m][i] = r.evaluation.margin[i]
+    spread[next(iter(spread))][i] += spread_db
+    return replace(r, spread=spread)
+
+
+def test_a_model_dependent_pick_is_marked_wherever_it_is_shown(two_layer):
+    """A spread over the via models above 3 dB (the threshold's one owner) marks the pick
+    in summary.json, the console, the report and every plot that names picks; 2.9 dB
+    does not."""
+    import matplotlib.pyplot as plt
+
+    from stackopt.cli.optimize import say_result
+    from stackopt.outputs.plots import plot_front, plot_response
+    from stackopt.outputs.plots_robust import plot_robustness
+    from stackopt.outputs.plots_stackup import plot_costs, plot_stackups
+    from stackopt.outputs.report import report_document
+    from stackopt.outputs.robust_text import MODEL_MARK
+    from stackopt.search.records import MODEL_DEPENDENT_DB
+
+    r = two_layer
+    i = next(i for i in r.picks.values() if i is not None)
+    assert MODEL_DEPENDENT_DB == 3.0
+    calm = _marked(r, i, 2.9)  # not marked
+    loud = _marked(r, i, 3.1)  # marked
+    assert calm.record(i)["model_spread_dB"] == pytest.approx(2.9)
+    assert not calm.record(i)["model_dependent"]
+    assert loud.record(i)["model_dependent"] and loud.model_dependent[i]
+
+    def texts(res) -> dict[str, str]:
+        lines: list[str] = []
+        say_result(res, lines.append)
+        out = {"console": "\n".join(lines), "report": repr(report_document(res))}
+        for make in (plot_front, plot_response, plot_robustness, plot_stackups, plot_costs):
+            fig = make(res)
+            words = [fig.get_suptitle()]
+            for ax in fig.axes:
+                words += ax.get_legend_handles_labels()[1]
+                words += [t.get_text() for t in ax.get_yticklabels() + ax.get_xticklabels()]
+                words.append(ax.get_title())
+            out[make.__name__] = "\n".join(words)
+            plt.close(fig)
+        return out
+
+    mark = MODEL_MARK.strip()
+    for where, text in texts(loud).items():
+        assert mark in text, where
+    others = [j for j in r.picks.values() if j is not None and j != i]
+    assert not r.model_dependent[others].any()  # so the mark can only come from pick i
+    for where, text in texts(calm).items():
+        assert mark not in text, where

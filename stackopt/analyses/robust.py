@@ -22,7 +22,7 @@ from stackopt.search.problem import Problem
 from stackopt.search.results import Result
 from stackopt.search.space import Geometry
 
-__all__ = ["margin_under", "margins_by_model", "robust_margin", "analyse", "ROBUST_CHUNK"]
+__all__ = ["margin_under", "margins_by_model", "analyse", "ROBUST_CHUNK"]
 
 #: Candidates sampled per Monte Carlo batch while looking for the cheapest robust one.
 ROBUST_CHUNK = 32
@@ -46,11 +46,6 @@ def margins_by_model(problem: Problem, g: Geometry, models: Iterable[str],
     known = known or {}
     return {m: (np.asarray(known[m]) if m in known else margin_under(problem, g, m))
             for m in models}
-
-
-def robust_margin(margins: Mapping[str, np.ndarray]) -> np.ndarray:
-    """Worst margin [dB] over the models, elementwise (N,)."""
-    return np.min(np.stack(list(margins.values())), axis=0)
 
 
 class _Sampler:

@@ -17,6 +17,7 @@ from matplotlib.figure import Figure
 
 from stackopt.outputs.facts import money_digits, plural, responses, sweep_freqs, unique_picks
 from stackopt.outputs.files import atomic_write_bytes
+from stackopt.outputs.robust_text import model_mark
 from stackopt.search.picks import PICKS
 
 __all__ = ["STYLE", "styled", "new_figure", "figure_bytes", "save_png", "save_svg",
@@ -151,7 +152,8 @@ def plot_front(result) -> Figure:
         text = " / ".join(PICKS[nm].plot for nm in names)
         ax.scatter([x[i]], [y[i]], s=90, facecolor="none", edgecolor=pick_color(k),
                    linewidths=1.6, zorder=5,
-                   label=f"{k + 1}: {text}, {int(layers[i])}L, {x[i]:,.{digits}f} {cur}")
+                   label=f"{k + 1}: {text}, {int(layers[i])}L, {x[i]:,.{digits}f} {cur}"
+                         f"{model_mark(result, i)}")
         ax.annotate(str(k + 1), (x[i], y[i]), xytext=(7, 5 + 9 * (k % 2)),
                     textcoords="offset points", fontsize=9, fontweight="bold",
                     color=pick_color(k), zorder=6)
@@ -220,7 +222,7 @@ def plot_response(result) -> Figure:
         text = " / ".join(PICKS[nm].plot for nm in names)
         ax.plot(f / 1e9, s21[k], color=pick_color(k), lw=1.5, zorder=4,
                 label=f"{text}: {int(ev.geometry.layers[i])} layers, "
-                      f"{result.ids[i]}")
+                      f"{result.ids[i]}{model_mark(result, i)}")
     ax.set_xlim(0, f[-1] / 1e9)
     req = [r.min_attenuation for r in result.problem.scenario.requirements]
     floor = min(float(np.min(ideal)), float(np.min(s21)))

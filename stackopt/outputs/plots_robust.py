@@ -8,7 +8,7 @@ from matplotlib.figure import Figure
 
 from stackopt.outputs.facts import unique_picks
 from stackopt.outputs.plots import new_figure, styled
-from stackopt.outputs.robust_text import MODEL_MARK, model_dependent, percent
+from stackopt.outputs.robust_text import model_mark, percent
 from stackopt.search.picks import PICKS
 
 __all__ = ["plot_robustness", "ROBUSTNESS_SENTENCE"]
@@ -47,7 +47,7 @@ def plot_robustness(result) -> Figure:
                         color=_MODEL_COLORS[j % len(_MODEL_COLORS)], ms=5,
                         mfc=None if m in result.robust else "white",
                         label=m if k == 0 else None, linestyle="none")
-        mark = MODEL_MARK if result.spread and model_dependent(result, i) else ""
+        mark = model_mark(result, i)
         y_txt = "" if result.yields is None else f", yield {percent(result.yields[i])}"
         labels.append(f"{result.ids[i]} ({' / '.join(PICKS[n].plot for n in names)})"
                       f"{y_txt}{mark}")

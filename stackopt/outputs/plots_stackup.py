@@ -8,6 +8,7 @@ from matplotlib.patches import Rectangle
 
 from stackopt.outputs.facts import cost_items, money_digits, unique_picks
 from stackopt.outputs.plots import new_figure, pick_color, plain, styled
+from stackopt.outputs.robust_text import model_mark
 from stackopt.search.picks import PICKS
 
 __all__ = ["plot_stackups", "plot_costs", "plot_prepregs", "LABEL_PT", "MAX_WIDTH_IN"]
@@ -89,7 +90,7 @@ def plot_stackups(result) -> Figure:
     for k, (ax, (i, names)) in enumerate(zip(axes, picks, strict=False)):
         st = result.stackup(i)
         head = " / ".join(PICKS[nm].plot for nm in names)
-        title = (f"{head} ({result.ids[i]})\n{st.n_layers} layers, "
+        title = (f"{head} ({result.ids[i]}){model_mark(result, i)}\n{st.n_layers} layers, "
                  f"{st.thickness * 1e3:.2f} mm, {result.evaluation.unit_cost[i]:,.{digits}f} "
                  f"{cur}")
         _draw_stackup(ax, st, title, pick_color(k))
@@ -126,7 +127,7 @@ def plot_costs(result) -> Figure:
                     (x, top), xytext=(0, 4), textcoords="offset points", ha="center",
                     fontsize=8)
     labels = [f"{' / '.join(PICKS[n].plot for n in nm)}\n{int(ev.geometry.layers[i])} layers"
-              for i, nm in picks]
+              f"{model_mark(result, i)}" for i, nm in picks]
     ax.set_xticks(xs, labels)
     ax.set_ylim(0, float(bottom.max(initial=1.0)) * 1.22 or 1.0)
     ax.set_ylabel(f"Cost per board ({cur})")

@@ -10,9 +10,9 @@ import math
 from stackopt.outputs.facts import db, selected_index, unique_picks
 from stackopt.outputs.plots_robust import ROBUSTNESS_SENTENCE
 from stackopt.outputs.robust_text import (
-    MODEL_MARK,
+    MODEL_RULE,
     limit_line,
-    model_dependent,
+    model_mark,
     percent,
     recommendation_line,
 )
@@ -24,7 +24,7 @@ __all__ = ["recommendation_blocks", "robustness_section", "margin_cell"]
 def margin_cell(result, i: int) -> str:
     """A pick's nominal margin, marked when it is model-dependent."""
     text = db(result.evaluation.margin[i], sign=True)
-    return text + (MODEL_MARK if result.spread and model_dependent(result, i) else "")
+    return text + model_mark(result, i)
 
 
 def _limit_of(result, i: int) -> str | None:
@@ -72,8 +72,7 @@ def robustness_section(result) -> list[tuple]:
         ("p", f"Robust margin: the worst margin over the via models {models} at the nominal "
               f"build. Yield: the share of {rb.samples} simulated builds within the fab's "
               "and the parts' tolerances that meet every requirement under the ranking "
-              "model. A pick whose margin differs by more than 3 dB between the four via "
-              "models is marked model-dependent."),
+              f"model. {MODEL_RULE}"),
         ("table", ["Pick", "Candidate", "Margin", "Robust margin", "Spread over models",
                    "Yield", "Impedance over the builds"], rows),
         ("img", "robustness", ROBUSTNESS_SENTENCE),

@@ -12,11 +12,16 @@ import numpy as np
 from stackopt.outputs.facts import money
 from stackopt.search.results import MODEL_DEPENDENT_DB
 
-__all__ = ["recommendation_line", "limit_line", "model_dependent", "MODEL_MARK",
+__all__ = ["recommendation_line", "limit_line", "model_mark", "MODEL_MARK", "MODEL_RULE",
            "percent", "robust_cells"]
 
-#: Appended to a pick's margin wherever it is shown when it is model-dependent.
+#: Appended to a pick's margin or label wherever it is shown (console, report, every plot
+#: that names picks) when it is model-dependent (:attr:`Result.model_dependent`).
 MODEL_MARK = " (model-dependent)"
+#: The sentence that explains the mark.
+MODEL_RULE = (f"A pick whose margin differs by more than {MODEL_DEPENDENT_DB:g} dB between "
+              f"the via models is marked \u201c{MODEL_MARK.strip(' ()')}\u201d: its "
+              "ranking rests on which model is right.")
 
 
 def percent(p: float | None) -> str:
@@ -26,11 +31,9 @@ def percent(p: float | None) -> str:
     return f"{100 * p:.1f} %"
 
 
-def model_dependent(result, i: int) -> bool:
-    """True when candidate ``i``'s margin spread over the via models exceeds
-    :data:`~stackopt.search.results.MODEL_DEPENDENT_DB`."""
-    v = [float(a[i]) for a in result.spread.values() if math.isfinite(a[i])]
-    return bool(v) and max(v) - min(v) > MODEL_DEPENDENT_DB
+def model_mark(result, i: int) -> str:
+    """:data:`MODEL_MARK` for a model-dependent candidate ``i``, else ``""``."""
+    return MODEL_MARK if bool(result.model_dependent[i]) else ""
 
 
 def _models_met(result, i: int) -> tuple[int, int]:
@@ -79,6 +82,4 @@ def robust_cells(result, i: int) -> tuple[str, str]:
     """(robust margin with the model-dependence mark, yield) as table cells."""
     m = float(result.robust_margin[i]) if len(result.robust) else float("nan")
     text = f"{m:+.1f} dB" if np.isfinite(m) else "n/a"
-    if result.spread and model_dependent(result, i):
-        text += MODEL_MARK
-    return text, percent(_yield(result, i))
+    return text + model_mark(result, i), percent(_yield(result, i))

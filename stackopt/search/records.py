@@ -92,9 +92,8 @@ def candidate_record(result: Result, i: int, check_lines: bool = False) -> dict:
     }
     if result.spread:
         out["margin_by_model_dB"] = {m: json_number(v[i]) for m, v in result.spread.items()}
-        sp = [float(v[i]) for v in result.spread.values() if np.isfinite(v[i])]
-        out["model_spread_dB"] = json_number(max(sp) - min(sp)) if sp else None
-        out["model_dependent"] = bool(sp) and max(sp) - min(sp) > MODEL_DEPENDENT_DB
+        out["model_spread_dB"] = json_number(result.model_spread[i])
+        out["model_dependent"] = bool(result.model_dependent[i])
     if result.robust:
         out["robust_margin_dB"] = json_number(result.robust_margin[i])
         out["meets_under_every_model"] = bool(result.robust_meets[i])

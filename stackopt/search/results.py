@@ -94,6 +94,26 @@ class Result:
         return self.meets & (self.robust_margin >= 0)
 
     @cached_property
+    def model_spread(self) -> np.ndarray:
+        """Margin spread over every via model, max - min (N,) dB; NaN where the spread
+        was not computed (only the front and the picks are)."""
+        n = self.n
+        if not self.spread:
+            return np.full(n, np.nan)
+        v = np.stack(list(self.spread.values()))  # (models, N)
+        fin = np.isfinite(v)
+        hi = np.where(fin, v, -np.inf).max(axis=0)
+        lo = np.where(fin, v, np.inf).min(axis=0)
+        return np.where(fin.any(axis=0), hi - lo, np.nan)
+
+    @cached_property
+    def model_dependent(self) -> np.ndarray:
+        """Margin spread over the via models above
+        :data:`~stackopt.search.records.MODEL_DEPENDENT_DB` (N,) bool: the one test
+        behind every model-dependence mark (summary, console, report, plots)."""
+        return np.nan_to_num(self.model_spread, nan=0.0) > MODEL_DEPENDENT_DB
+
+    @cached_property
     def yield_or_low(self) -> np.ndarray:
         """Yields with -1 where not sampled (for ranking)."""
         return np.full(self.n, -1.0) if self.yields is None else np.nan_to_num(
