@@ -16,7 +16,6 @@ import os
 import platform
 import subprocess
 import sys
-import tempfile
 
 PHASES = r"""
 import json, resource, sys, time, tempfile

@@ -26,8 +26,8 @@ import stackopt
 from stackopt.inputs.costtable import load_cost_table
 from stackopt.inputs.scenario import load_scenario
 from stackopt.search.front import hypervolume, nondominated
-from stackopt.search.problem import Problem
 from stackopt.search.genome import decode_genome, genome_bounds
+from stackopt.search.problem import Problem
 
 
 def whole_space_scenario():

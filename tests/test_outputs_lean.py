@@ -58,4 +58,5 @@ def test_front_csv_rows_are_the_front_by_cost():
     back = pd.read_csv(io.StringIO(exports.front_csv(result)))
     assert list(back["id"]) == [result.ids[i] for i in result.front_order]
     assert all(math.isclose(a, b, rel_tol=1e-9) for a, b in
-               zip(back["unit_cost"], result.evaluation.unit_cost[result.front_order]))
+               zip(back["unit_cost"], result.evaluation.unit_cost[result.front_order],
+                   strict=True))

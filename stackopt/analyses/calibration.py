@@ -217,7 +217,7 @@ def model_predictions(depth: float, drill: float, count: int = 1, pitch: float =
     xy = row_positions(count, pitch if count > 1 else 0.0)
     out: dict[str, float] = {}
     for name in models:  # a handful of models
-        value = float(parallel_via_inductance(depth, drill, xy,  # type: ignore[arg-type]
+        value = float(parallel_via_inductance(depth, drill, xy,
                                               check_via_model(name)))
         out[name] = value if value > 0 and math.isfinite(value) else math.nan
     return out

@@ -38,7 +38,7 @@ def with_coupon(existing: CalibrationData | None, record: CouponRecord,
     coupons = (*old, record)
     ratios = [(c.name, {m: r.ratio for m, r in c.models.items()}) for c in coupons]
     factors = {m: FactorRecord(**v) for m, v in combine_factors(ratios).items()}
-    return CalibrationData(stackopt_calibration=CALIBRATION_VERSION,  # type: ignore[arg-type]
+    return CalibrationData(stackopt_calibration=CALIBRATION_VERSION,
                            note=note or (existing.note if existing else ""),
                            coupons=coupons, factors=factors)
 

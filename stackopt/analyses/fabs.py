@@ -25,6 +25,7 @@ from pathlib import Path
 from stackopt.errors import InputError
 from stackopt.model.costtable import CostTable
 from stackopt.model.scenario import Scenario
+from stackopt.model.searchspec import Method
 from stackopt.search.memo import ResponseMemo
 from stackopt.search.results import Result
 
@@ -271,7 +272,7 @@ class FabComparison:
 
 def compare_fabs(scenario: Scenario, tables: Sequence[tuple[CostTable, str]], *,
                  rates: Sequence[Rate] = (), seed: int | None = None,
-                 method: str | None = None, budget: int | None = None,
+                 method: Method | None = None, budget: int | None = None,
                  quantities: Sequence[int] | None = None,
                  memo: ResponseMemo | None = None) -> FabComparison:
     """Search ``scenario`` against every table.

@@ -22,6 +22,7 @@ from stackopt.cost import price
 from stackopt.errors import InputError
 from stackopt.model.costtable import CostTable
 from stackopt.model.scenario import Scenario, check_lot_sizes
+from stackopt.model.searchspec import Method
 from stackopt.search.memo import ResponseMemo
 from stackopt.search.problem import min_trace
 from stackopt.search.results import Result
@@ -69,7 +70,7 @@ class QuantitySweep:
 
 
 def quantity_sweep(scenario: Scenario, table: CostTable, quantities: Sequence[int], *,
-                   seed: int | None = None, method: str | None = None,
+                   seed: int | None = None, method: Method | None = None,
                    budget: int | None = None, memo: ResponseMemo | None = None,
                    main: Result | None = None) -> QuantitySweep:
     """Search the scenario at every lot size in ``quantities``.
@@ -117,9 +118,9 @@ def unit_cost_curve(result: Result, idx: Sequence[int], quantities: Sequence[int
     """Unit cost (Q, k) of the candidates ``idx`` of ``result`` at every lot size: the
     same boards, priced by the cost model at each quantity (no physics)."""
     pb = result.problem
-    idx = np.asarray(idx, dtype=np.int64)
-    batch = pb.price_batch(pb.space.geometry(result.candidates.take(idx)),
-                           min_trace(result.evaluation.widths[idx]))
+    rows = np.asarray(idx, dtype=np.int64)
+    batch = pb.price_batch(pb.space.geometry(result.candidates.take(rows)),
+                           min_trace(result.evaluation.widths[rows]))
     out = np.empty((len(quantities), len(idx)))
     for k, q in enumerate(quantities):  # lot sizes, not candidates
         order = pb.order.model_copy(update={"quantity": int(q)})

@@ -126,9 +126,9 @@ def analyse(result: Result) -> Result:
     g = problem.space.geometry(result.candidates.take(idx))
     known = {m: v[idx] for m, v in robust.items()}
     spread = {}
-    for m, v in margins_by_model(problem, g, VIA_MODELS, known=known).items():
+    for m, margin in margins_by_model(problem, g, VIA_MODELS, known=known).items():
         full = np.full(result.n, np.nan)
-        full[idx] = v
+        full[idx] = margin
         spread[m] = full
     r = replace(r, spread=spread, yields=sampler.yields, impedance_range=sampler.zrange,
                 build_margins={i: sampler.margins[i] for i in picked.tolist()})

@@ -177,8 +177,8 @@ def _denorm(spec: FilterSpec, z0: float, typ: str, g: float) -> tuple[str, float
 
 def _elliptic_circuit(spec: FilterSpec, z0: float, input: str, output: str) -> Circuit:
     """The elliptic ladder (:mod:`stackopt.circuit.elliptic`) as explicit elements."""
-    pr = elliptic_prototype(spec.order, float(spec.ripple), float(spec.stopband_attenuation),
-                            spec.first)  # type: ignore[arg-type]
+    assert spec.ripple is not None and spec.stopband_attenuation is not None  # validated
+    pr = elliptic_prototype(spec.order, spec.ripple, spec.stopband_attenuation, spec.first)
     m = len(pr.main)
     if spec.first == "shunt":  # main shunt C on every node, parallel L-C arms between
         nodes = [input] + [f"n{i}" for i in range(1, m - 1)] + [output]
@@ -238,6 +238,7 @@ def _with_coupling(spec: FilterSpec, c: Circuit) -> Circuit:
 
 def _with_lines(spec: FilterSpec, c: Circuit) -> Circuit:
     tpl = spec.interconnect
+    assert tpl is not None  # called only with an interconnect template
     pairs: list[tuple[str, str]] = []
     for e in c.elements:  # series branches in generation order
         if GROUND_NODE not in e.between and e.between not in pairs:
@@ -246,6 +247,6 @@ def _with_lines(spec: FilterSpec, c: Circuit) -> Circuit:
     els = tuple(e.model_copy(update={"between": (new[e.between], e.between[1])})
                 if e.between in new else e for e in c.elements)
     lines = tuple(Interconnect(between=(p[0], w), length=tpl.length, width=tpl.width)
-                  for p, w in new.items())  # type: ignore[union-attr]
+                  for p, w in new.items())
     return Circuit(z0=c.z0, input=c.input, output=c.output, elements=els,
                    grounds=c.grounds, couplings=c.couplings, interconnect=lines)

@@ -52,8 +52,9 @@ def run(args: argparse.Namespace) -> int:
     g = ev.geometry
     sc = inp.scenario
     gb = problem.ground_batch(g)
-    grounds = [{k: (v if k == "name" else float(v[0])) for k, v in row.items()}
-               for row in ground_breakdown(problem.compiled, gb, sc.search.via_model)]
+    grounds: list[dict[str, Any]] = [
+        {k: (v if k == "name" else float(v[0])) for k, v in row.items()}
+        for row in ground_breakdown(problem.compiled, gb, sc.search.via_model)]
     guard = float(ground_parts(problem.compiled, gb, sc.search.via_model).guard[0])
     path, coupling = worst_path_and_coupling(problem.compiled, gb, sc.search.via_model)
     m = metrics_record(problem, ev, 0)

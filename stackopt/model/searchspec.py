@@ -24,9 +24,11 @@ from stackopt.physics.inductance import DEFAULT_VIA_MODEL, VIA_MODELS
 from stackopt.plausible import SEED_MAX
 from stackopt.units import COPPER_M_PER_OZ
 
-__all__ = ["Objective", "ThicknessWindow", "SpaceSpec", "RobustnessSpec", "SearchSpec"]
+__all__ = ["Objective", "Method", "ThicknessWindow", "SpaceSpec", "RobustnessSpec", "SearchSpec"]
 
 Objective = Literal["margin", "attenuation", "inductance"]
+#: Search methods (:func:`stackopt.search.api.optimize`).
+Method = Literal["auto", "exact", "nsga2"]
 
 
 def _mm(x: float) -> str:
@@ -168,7 +170,7 @@ class SearchSpec(BaseModel):
     objective: Objective = "margin"
     at: Frequency | None = Field(default=None, description="frequency for objective 'attenuation'")
     third_objective: Literal["lead_time"] | None = None
-    method: Literal["auto", "exact", "nsga2"] = "auto"
+    method: Method = "auto"
     budget: Count = Field(default=20_000, ge=100, le=10_000_000)
     seed: Count = Field(default=1, ge=0, le=SEED_MAX)
     via_model: str = Field(default=DEFAULT_VIA_MODEL, description="a key of "

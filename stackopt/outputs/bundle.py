@@ -49,7 +49,7 @@ def render_all(result, extra_summary: dict | None = None, sweep=None) -> dict[st
     (:class:`~stackopt.analyses.quantities.QuantitySweep`)."""
     from stackopt.analyses.ideal import ideal_ground
     from stackopt.outputs.case import four_layer_case
-    from stackopt.outputs.parallel import render
+    from stackopt.outputs.parallel import Job, render
     from stackopt.outputs.plots import figure_bytes, plot_front, plot_response
     from stackopt.outputs.plots_ladder import plot_mitigations
     from stackopt.outputs.plots_stackup import plot_costs, plot_prepregs, plot_stackups
@@ -70,7 +70,7 @@ def render_all(result, extra_summary: dict | None = None, sweep=None) -> dict[st
         fig = plot_front(result)
         return {"pareto": figure_bytes(fig, "png"), "pareto.svg": figure_bytes(fig, "svg")}
 
-    jobs = {
+    jobs: dict[str, Job] = {
         "pareto": front,
         "response": lambda: figure_bytes(plot_response(result), "png"),
         "stackups": lambda: figure_bytes(plot_stackups(result), "png"),

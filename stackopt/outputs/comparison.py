@@ -101,11 +101,13 @@ def ranking_sentences(comp: FabComparison) -> list[str]:
             first = comp.runs[order[0]]
             r = first.result
             i = r.picks[RANK_PICK]
+            assert i is not None  # ranked runs have the pick (FabComparison.ranking)
             u0 = comp.converted(order[0], float(r.evaluation.unit_cost[i]), cur)
             in_ref = (f" ({money(u0, cur)}{at})" if first.currency != cur else "")
             what = (f"{r.ids[i]} ({int(r.evaluation.geometry.layers[i])} layers), "
-                    f"{money(r.evaluation.unit_cost[i], first.currency)} per board{in_ref}, "
-                    f"{money(r.evaluation.lot_cost[i], first.currency, 0)} for {q:,}")
+                    f"{money(float(r.evaluation.unit_cost[i]), first.currency)} per board"
+                    f"{in_ref}, "
+                    f"{money(float(r.evaluation.lot_cost[i]), first.currency, 0)} for {q:,}")
             text = (f"{first.name}: the cheapest board meeting every requirement is {what}."
                     if len(group) == 1 else
                     f"Cheapest board meeting every requirement: {first.name}, {what}.")

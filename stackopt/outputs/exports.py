@@ -66,10 +66,11 @@ def _column(values: np.ndarray) -> tuple[str, list]:
         return "%s", np.where(values, "True", "False").tolist()
     codes, uniques = pd.factorize(values, use_na_sentinel=False)
     u = pd.Series(uniques, dtype=object)
-    plain = (u.map(type) == str) & ~u.str.contains(r'[,"\n\r]', regex=True, na=True) \
+    exact_str = u.map(lambda v: type(v) is str).astype(bool)  # not numpy's str subclass
+    plain = exact_str & ~u.str.contains(r'[,"\n\r]', regex=True, na=True) \
         & ~u.str.startswith(_TRIGGERS, na=True)  # most cells: written as they are
-    cells = np.array([v if ok else _cell(v) for v, ok in zip(u.tolist(), plain.tolist())],
-                     dtype=object)
+    cells = np.array([v if ok else _cell(v)
+                      for v, ok in zip(u.tolist(), plain.tolist(), strict=True)], dtype=object)
     return "%s", cells[codes].tolist()  # each distinct text handled once
 
 
@@ -80,7 +81,7 @@ def _csv(df: pd.DataFrame, header: bool = True) -> str:
     cols = [_column(df[c].to_numpy()) for c in df.columns]
     fmt = ",".join(f for f, _ in cols) + "\n"
     head = ",".join(_cell(str(c)) for c in df.columns) + "\n" if header else ""
-    return head + "".join([fmt % row for row in zip(*(v for _, v in cols))])
+    return head + "".join([fmt % row for row in zip(*(v for _, v in cols), strict=True)])
 
 
 def candidates_csv(result) -> str:

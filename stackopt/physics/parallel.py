@@ -7,6 +7,7 @@ broadcast over any leading (batch) shape.
 from __future__ import annotations
 
 import operator
+from typing import Literal, overload
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -135,6 +136,14 @@ def guard_coupling(self_l: ArrayLike, mutual: ArrayLike, include: ArrayLike | No
     return alpha[..., None, None] * m, alpha
 
 
+@overload
+def parallel_via_inductance(h: ArrayLike, d: ArrayLike, xy: ArrayLike,
+                            model: ViaModel = ..., *, with_guard: Literal[False] = ...
+                            ) -> _F: ...
+@overload
+def parallel_via_inductance(h: ArrayLike, d: ArrayLike, xy: ArrayLike,
+                            model: ViaModel = ..., *, with_guard: Literal[True]
+                            ) -> tuple[_F, _F]: ...
 def parallel_via_inductance(h: ArrayLike, d: ArrayLike, xy: ArrayLike,
                             model: ViaModel = "goldfarb-pucel", *, with_guard: bool = False
                             ) -> _F | tuple[_F, _F]:

@@ -5,11 +5,11 @@ from __future__ import annotations
 import warnings
 from collections.abc import Callable
 from pathlib import Path
-from typing import Literal
 
 from stackopt.errors import InputError, StackoptWarning
 from stackopt.model.costtable import CostTable
 from stackopt.model.scenario import Scenario
+from stackopt.model.searchspec import Method
 from stackopt.search.exact import exact_candidates, exact_cost
 from stackopt.search.feasibility import empty_space_message, fab_findings
 from stackopt.search.memo import ResponseMemo
@@ -24,7 +24,6 @@ __all__ = ["optimize", "EXACT_TIME_LIMIT", "EXACT_MEMORY_LIMIT"]
 EXACT_TIME_LIMIT = 300.0
 EXACT_MEMORY_LIMIT = 4e9
 
-Method = Literal["auto", "exact", "nsga2"]
 
 
 def _load(scenario: Scenario | str | Path, cost_table: CostTable | str | Path | None

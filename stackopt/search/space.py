@@ -332,13 +332,13 @@ def candidate_stackup(space: Space, c: Candidates, i: int):
 
     a = space.arrangements[int(c.arr[i])]
     cu = space.copper[int(c.copper[i])]
-    copper = tuple(Copper(thickness=cu, role=r, name=f"L{k + 1}")  # type: ignore[arg-type]
+    copper = tuple(Copper(thickness=cu, role=r, name=f"L{k + 1}")
                    for k, r in enumerate(a.roles))
     diel = []
     for s, kind in enumerate(a.slot_kinds):
         o = space.options[kind]
         j = int(c.slot[i, s])
-        diel.append(Dielectric(kind=kind, material=o.names[j],  # type: ignore[arg-type]
+        diel.append(Dielectric(kind=kind, material=o.names[j],
                                thickness=float(o.thickness[j]), er=float(o.er[j]),
                                df=float(o.df[j]), plies=int(o.count[j])))
     return Stackup(copper=copper, dielectrics=tuple(diel))
