@@ -60,7 +60,8 @@ class EllipticPrototype:
 
 def _polys(n: int, ripple: float, stop: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """E, N, F as ascending real coefficient arrays (F monic, sign +)."""
-    from scipy import signal  # lazy: scipy.signal costs ~0.7 s to import; only elliptic designs need it
+    # lazy: scipy.signal costs ~0.7 s to import; only elliptic designs need it
+    from scipy import signal
 
     z, p, k = signal.ellipap(n, ripple, stop)
     e = np.real(P.polyfromroots(p))

@@ -147,7 +147,9 @@ def passband_losses(result, idx) -> tuple[np.ndarray, np.ndarray] | None:
 def passband_text(result) -> str:
     """The passband in words, e.g. "863 MHz to 870 MHz", and where it comes from."""
     sc = result.problem.scenario
-    lo, hi = sc.passband_hz  # type: ignore[misc]
+    band_hz = sc.passband_hz
+    assert band_hz is not None  # the caller shows a passband only where there is one
+    lo, hi = band_hz
     band = f"{lo / 1e6:.6g} MHz to {hi / 1e6:.6g} MHz"  # exact: band edges are stated
     return band if sc.passband is not None else (
         band + " (the generated filter's design band; state 'passband' for the band the "
