@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from stackopt.physics.arrays import ArrayLike
+from stackopt.physics.arrays import FloatArray as _F
 from stackopt.physics.constants import ETA0
 from stackopt.physics.lines import _hj_eps, _hj_thickness, _hj_z01
 from stackopt.physics.stripline import _wheeler_stripline_air, elliptic_ratio
@@ -15,12 +17,12 @@ from stackopt.physics.stripline import _wheeler_stripline_air, elliptic_ratio
 __all__ = ["coupled_microstrip", "coupled_stripline"]
 
 
-def _modes(z_even, z_odd, **extra) -> dict[str, np.ndarray]:
+def _modes(z_even: _F, z_odd: _F, **extra: _F) -> dict[str, _F]:
     return {"z_even": z_even, "z_odd": z_odd, "z_diff": 2.0 * z_odd,
             "z_common": z_even / 2.0, **extra}
 
 
-def _kj_static(u, g, er):
+def _kj_static(u: _F, g: _F, er: _F) -> tuple[_F, _F, _F, _F]:
     """Kirschning–Jansen static even/odd impedances and permittivities (t = 0)."""
     eps = _hj_eps(u, er)
     z01 = _hj_z01(u)  # air impedance of the single strip: Z0 sqrt(eps) = Z01
@@ -53,7 +55,8 @@ def _kj_static(u, g, er):
     return z_e, z_o, eps_e, eps_o
 
 
-def coupled_microstrip(w, s, h, er, t=35e-6) -> dict[str, np.ndarray]:
+def coupled_microstrip(w: ArrayLike, s: ArrayLike, h: ArrayLike, er: ArrayLike,
+                       t: ArrayLike = 35e-6) -> dict[str, _F]:
     r"""Even/odd-mode impedances of two equal edge-coupled microstrips (Kirschning–Jansen).
 
     With :math:`u = w/h`, :math:`g = s/h` and the single-line Hammerstad–Jensen
@@ -138,7 +141,8 @@ def coupled_microstrip(w, s, h, er, t=35e-6) -> dict[str, np.ndarray]:
     return _modes(z_e, z_o, eps_even=eps_e, eps_odd=eps_o)
 
 
-def coupled_stripline(w, s, b, er, t=0.0) -> dict[str, np.ndarray]:
+def coupled_stripline(w: ArrayLike, s: ArrayLike, b: ArrayLike, er: ArrayLike,
+                      t: ArrayLike = 0.0) -> dict[str, _F]:
     r"""Even/odd-mode impedances of two equal edge-coupled strips midway between planes.
 
     Cohn's (1955) exact zero-thickness conformal mapping:

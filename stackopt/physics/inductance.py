@@ -24,6 +24,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from stackopt.errors import ModelError, did_you_mean
+from stackopt.physics.arrays import FloatArray
 from stackopt.physics.constants import MU0_OVER_2PI
 from stackopt.physics.tube import tube_self_inductance
 
@@ -51,7 +52,7 @@ DEFAULT_VIA_MODEL: ViaModel = "goldfarb-pucel"
 #: Via depths [m] over which Goldfarb & Pucel (1991) fitted their formula to data.
 GOLDFARB_PUCEL_FIT_RANGE: tuple[float, float] = (0.1e-3, 0.63e-3)
 
-_F = NDArray[np.float64]
+_F = FloatArray
 
 
 def _filament_bracket(length: ArrayLike, spacing: ArrayLike) -> _F:

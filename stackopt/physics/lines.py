@@ -17,6 +17,8 @@ from typing import Literal, get_args
 import numpy as np
 
 from stackopt.errors import ModelError
+from stackopt.physics.arrays import ArrayLike
+from stackopt.physics.arrays import FloatArray as _F
 from stackopt.physics.constants import C0, ETA0
 from stackopt.physics.stripline import elliptic_ratio, stripline, stripline_cohn
 
@@ -40,13 +42,13 @@ MICROSTRIP_MODELS: tuple[str, ...] = get_args(MicrostripModel)
 
 
 # --------------------------------------------------------------------------- microstrip
-def _hj_z01(u: np.ndarray) -> np.ndarray:
+def _hj_z01(u: _F) -> _F:
     """Hammerstad–Jensen impedance of a zero-thickness strip in air (eq. 1-2), ohm."""
     f = 6.0 + (2.0 * np.pi - 6.0) * np.exp(-((30.666 / u) ** 0.7528))
     return ETA0 / (2.0 * np.pi) * np.log(f / u + np.sqrt(1.0 + (2.0 / u) ** 2))
 
 
-def _hj_eps(u: np.ndarray, er: np.ndarray) -> np.ndarray:
+def _hj_eps(u: _F, er: _F) -> _F:
     """Hammerstad–Jensen effective permittivity of a zero-thickness strip (eq. 3-5)."""
     a = (1.0 + np.log((u**4 + (u / 52.0) ** 2) / (u**4 + 0.432)) / 49.0
          + np.log(1.0 + (u / 18.1) ** 3) / 18.7)
@@ -54,7 +56,7 @@ def _hj_eps(u: np.ndarray, er: np.ndarray) -> np.ndarray:
     return (er + 1.0) / 2.0 + (er - 1.0) / 2.0 * (1.0 + 10.0 / u) ** (-a * b)
 
 
-def _hj_thickness(u, tn, er) -> tuple[np.ndarray, np.ndarray]:
+def _hj_thickness(u: _F, tn: _F, er: _F) -> tuple[_F, _F]:
     """Hammerstad–Jensen width corrections (Δu1 in air, Δur on the substrate), t/h = tn."""
     coth2 = 1.0 / np.tanh(np.sqrt(6.517 * u)) ** 2
     # T ln(1 + 4e/(T c)) -> 0 as T -> 0; a tiny floor keeps t = 0 free of 0 * inf.
@@ -64,7 +66,8 @@ def _hj_thickness(u, tn, er) -> tuple[np.ndarray, np.ndarray]:
     return du1, dur
 
 
-def microstrip_hammerstad_jensen(w, h, er, t=35e-6) -> tuple[np.ndarray, np.ndarray]:
+def microstrip_hammerstad_jensen(w: ArrayLike, h: ArrayLike, er: ArrayLike,
+                                 t: ArrayLike = 35e-6) -> tuple[_F, _F]:
     r"""Microstrip by Hammerstad & Jensen (1980), with their strip-thickness correction.
 
     With :math:`u = w/h` and :math:`\eta_0` the impedance of free space,
@@ -138,7 +141,8 @@ def microstrip_hammerstad_jensen(w, h, er, t=35e-6) -> tuple[np.ndarray, np.ndar
     return z0, eps_eff
 
 
-def microstrip_ipc2141(w, h, er, t=35e-6) -> tuple[np.ndarray, np.ndarray]:
+def microstrip_ipc2141(w: ArrayLike, h: ArrayLike, er: ArrayLike, t: ArrayLike = 35e-6
+                       ) -> tuple[_F, _F]:
     r"""Microstrip by the IPC-2141A closed form.
 
     .. math::
@@ -183,7 +187,7 @@ def microstrip_ipc2141(w, h, er, t=35e-6) -> tuple[np.ndarray, np.ndarray]:
     return z0, eps_eff
 
 
-def _wheeler_z(w, h, er, t) -> np.ndarray:
+def _wheeler_z(w: _F, h: _F, er: _F, t: _F) -> _F:
     """Wheeler (1977) eq. (21) with the eq. (22) width correction, ohm."""
     tt = np.where(t > 0, t, h)  # any positive stand-in; masked out below for t = 0
     dw1 = np.where(t > 0, tt / np.pi * np.log(
@@ -195,7 +199,8 @@ def _wheeler_z(w, h, er, t) -> np.ndarray:
         1.0 + x * (p + np.sqrt(p**2 + np.pi**2 * (1.0 + 1.0 / er) / 2.0)))
 
 
-def microstrip_wheeler(w, h, er, t=35e-6) -> tuple[np.ndarray, np.ndarray]:
+def microstrip_wheeler(w: ArrayLike, h: ArrayLike, er: ArrayLike, t: ArrayLike = 35e-6
+                       ) -> tuple[_F, _F]:
     r"""Microstrip by Wheeler (1977), with his strip-thickness correction.
 
     .. math::
@@ -257,8 +262,8 @@ def check_microstrip_model(model: str) -> None:
                          fix="choose one of: " + ", ".join(MICROSTRIP_MODELS))
 
 
-def microstrip(w, h, er, t=35e-6, model: MicrostripModel = "hammerstad-jensen"
-               ) -> tuple[np.ndarray, np.ndarray]:
+def microstrip(w: ArrayLike, h: ArrayLike, er: ArrayLike, t: ArrayLike = 35e-6,
+               model: MicrostripModel = "hammerstad-jensen") -> tuple[_F, _F]:
     r"""Quasi-static impedance and effective permittivity of a microstrip line.
 
     Dispatches to :func:`microstrip_hammerstad_jensen` (default),
@@ -299,7 +304,8 @@ def microstrip(w, h, er, t=35e-6, model: MicrostripModel = "hammerstad-jensen"
     return _MICROSTRIP[model](w, h, er, t)
 
 
-def pad_trace_inductance(length, width, height, thickness=35e-6) -> np.ndarray:
+def pad_trace_inductance(length: ArrayLike, width: ArrayLike, height: ArrayLike,
+                         thickness: ArrayLike = 35e-6) -> _F:
     r"""Series inductance of a short trace over its plane (a pad-to-via connection).
 
     The trace is treated as a short line: its inductance per length is that of the same

@@ -10,8 +10,9 @@ import operator
 from typing import Literal, overload
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
+from numpy.typing import ArrayLike
 
+from stackopt.physics.arrays import FloatArray
 from stackopt.physics.constants import MU0
 from stackopt.physics.inductance import (
     ViaModel,
@@ -30,7 +31,7 @@ __all__ = [
     "plane_sheet_inductance",
 ]
 
-_F = NDArray[np.float64]
+_F = FloatArray
 
 
 #: Floor on the smallest eigenvalue of the normalised inductance matrix

@@ -8,12 +8,14 @@ from __future__ import annotations
 
 import numpy as np
 
+from stackopt.physics.arrays import ArrayLike
+from stackopt.physics.arrays import FloatArray as _F
 from stackopt.physics.constants import ETA0
 
 __all__ = ["elliptic_ratio", "stripline", "stripline_cohn"]
 
 
-def elliptic_ratio(k2: np.ndarray, kp2: np.ndarray) -> np.ndarray:
+def elliptic_ratio(k2: ArrayLike, kp2: ArrayLike) -> _F:
     r"""Return :math:`K(k)/K(k')` from :math:`k^2` and :math:`k'^2 = 1-k^2`.
 
     Both squares are passed so that neither has to be formed as ``1 - x`` (which loses
@@ -27,7 +29,7 @@ def elliptic_ratio(k2: np.ndarray, kp2: np.ndarray) -> np.ndarray:
 
 
 # --------------------------------------------------------------------------- stripline
-def stripline_cohn(w, b, er) -> np.ndarray:
+def stripline_cohn(w: ArrayLike, b: ArrayLike, er: ArrayLike) -> _F:
     r"""Zero-thickness centred stripline, exact conformal-mapping result of Cohn (1954).
 
     .. math::
@@ -61,7 +63,7 @@ def stripline_cohn(w, b, er) -> np.ndarray:
                                                        np.tanh(x) ** 2)
 
 
-def _wheeler_stripline_air(w, b, t) -> np.ndarray:
+def _wheeler_stripline_air(w: _F, b: _F, t: _F | float) -> _F:
     """Wheeler (1978) centred stripline in air, with finite strip thickness, ohm."""
     x = np.clip(t / b, 1e-12, 1.0 - 1e-12)
     m = 2.0 / (1.0 + 2.0 / 3.0 * x / (1.0 - x))
@@ -72,7 +74,8 @@ def _wheeler_stripline_air(w, b, t) -> np.ndarray:
     return ETA0 / (4.0 * np.pi) * np.log(1.0 + 4.0 / np.pi * q * (p + np.sqrt(p**2 + 6.27)))
 
 
-def stripline(w, b, er, t=0.0, offset=0.0) -> np.ndarray:
+def stripline(w: ArrayLike, b: ArrayLike, er: ArrayLike, t: ArrayLike = 0.0,
+              offset: ArrayLike = 0.0) -> _F:
     r"""Stripline impedance with strip thickness and an off-centre strip.
 
     Centred, zero thickness: :func:`stripline_cohn` (exact). Thickness scales it by
@@ -149,7 +152,7 @@ def stripline(w, b, er, t=0.0, offset=0.0) -> np.ndarray:
     b1 = np.where(ok, 2.0 * h1 + t, b)
     b2 = np.where(ok, 2.0 * h2 + t, b)
 
-    def centred(bb):
+    def centred(bb: _F) -> _F:
         ratio = _wheeler_stripline_air(w, bb, t) / _wheeler_stripline_air(w, bb, 0.0)
         return stripline_cohn(w, bb, er) * ratio
 

@@ -9,12 +9,15 @@ never a clipped or extrapolated width.
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from typing import Literal, get_args
 
 import numpy as np
+from numpy.typing import NDArray
 
 from stackopt.errors import ModelError
+from stackopt.physics.arrays import ArrayLike
+from stackopt.physics.arrays import FloatArray as _F
 from stackopt.physics.coplanar import cpwg
 from stackopt.physics.coupled import coupled_microstrip, coupled_stripline
 from stackopt.physics.lines import check_microstrip_model, microstrip, stripline
@@ -31,7 +34,7 @@ _NEEDS = {"cpwg": ("gap",), "coupled_microstrip": ("s",), "coupled_stripline": (
 _ACCEPTS = {"microstrip": ("model",), "stripline": ("offset",), "cpwg": ("gap",),
             "coupled_microstrip": ("s",), "coupled_stripline": ("s",)}
 
-_KERNELS: dict[str, Callable[..., np.ndarray]] = {
+_KERNELS: dict[str, Callable[..., _F]] = {
     "microstrip": lambda w, h, er, t, model="hammerstad-jensen": microstrip(
         w, h, er, t, model)[0],
     "stripline": lambda w, h, er, t, offset=0.0: stripline(w, h, er, t, offset),
@@ -41,7 +44,7 @@ _KERNELS: dict[str, Callable[..., np.ndarray]] = {
 }
 
 
-def _check(kind: str, kw: dict) -> None:
+def _check(kind: str, kw: Mapping[str, object]) -> None:
     if kind not in _KERNELS:
         raise ModelError(f"unknown line kind {kind!r}", key="kind",
                          fix="choose one of: " + ", ".join(LINE_KINDS))
@@ -52,10 +55,11 @@ def _check(kind: str, kw: dict) -> None:
                          fix=f"it takes {', '.join(_ACCEPTS[kind])}"
                          + (f" and needs {', '.join(missing)}" if missing else ""))
     if "model" in kw:
-        check_microstrip_model(kw["model"])
+        check_microstrip_model(str(kw["model"]))
 
 
-def line_impedance(w, h, er, t=35e-6, kind: LineKind = "microstrip", **kw) -> np.ndarray:
+def line_impedance(w: ArrayLike, h: ArrayLike, er: ArrayLike, t: ArrayLike = 35e-6,
+                   kind: LineKind = "microstrip", **kw: ArrayLike | str) -> _F:
     r"""Impedance [ohm] of one line kind as a function of width (the synthesis target).
 
     .. math::
@@ -89,9 +93,10 @@ def line_impedance(w, h, er, t=35e-6, kind: LineKind = "microstrip", **kw) -> np
     return np.asarray(_KERNELS[kind](w, h, er, t, **kw), float)
 
 
-def synthesize_width(z_target, h, er, t=35e-6, kind: LineKind = "microstrip",
-                     w_min=10e-6, w_max=50e-3, *, iterations: int = 64, rtol: float = 1e-6,
-                     **kw) -> tuple[np.ndarray, np.ndarray]:
+def synthesize_width(z_target: ArrayLike, h: ArrayLike, er: ArrayLike, t: ArrayLike = 35e-6,
+                     kind: LineKind = "microstrip", w_min: ArrayLike = 10e-6,
+                     w_max: ArrayLike = 50e-3, *, iterations: int = 64, rtol: float = 1e-6,
+                     **kw: ArrayLike | str) -> tuple[_F, NDArray[np.bool_]]:
     r"""Width giving a target impedance, by vectorized bisection on :math:`\ln w`.
 
     Solves :math:`Z(w) = Z_t` for :math:`w \in [w_{\min}, w_{\max}]` with
@@ -141,7 +146,7 @@ def synthesize_width(z_target, h, er, t=35e-6, kind: LineKind = "microstrip",
     zt, h, er, t, wlo, whi = arrays
     opts = {k: (v if k == "model" else np.asarray(v, float)) for k, v in kw.items()}
 
-    def z_of(w):
+    def z_of(w: _F) -> _F:
         return np.asarray(_KERNELS[kind](w, h, er, t, **opts), float)
 
     lo, hi = np.log(wlo), np.log(whi)
