@@ -22,6 +22,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
+from stackopt.analyses.quantities import QuantitySweep
 from stackopt.errors import InputError
 from stackopt.model.costtable import CostTable
 from stackopt.model.scenario import Scenario
@@ -202,7 +203,7 @@ class FabRun:
     folder: str
     source: str  # the table's file name, or "" for a table given as a model
     result: Result
-    sweep: object | None = None  # QuantitySweep
+    sweep: QuantitySweep | None = None
 
     @property
     def name(self) -> str:

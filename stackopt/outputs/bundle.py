@@ -6,6 +6,7 @@ or the complete new one at every instant. A new output is one more entry in the 
 from __future__ import annotations
 
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from stackopt.outputs.exports import (
     candidates_csv,
@@ -19,6 +20,10 @@ from stackopt.outputs.facts import passband_summary, selected_index, sweep_freqs
 from stackopt.outputs.files import prepare_out_dir
 from stackopt.outputs.resultdir import write_result
 
+if TYPE_CHECKING:
+    from stackopt.analyses.quantities import QuantitySweep
+    from stackopt.search.results import Result
+
 __all__ = ["FILES", "render_all", "write_all"]
 
 #: The fixed file names, in writing order.
@@ -29,7 +34,7 @@ FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.m
          "selected.yaml", "selected.s2p")
 
 
-def _touchstone(result, i: int) -> str:
+def _touchstone(result: Result, i: int) -> str:
     from stackopt.outputs.touchstone import touchstone_text
     from stackopt.search.responses import TOUCHSTONE_POINTS
 
@@ -41,7 +46,8 @@ def _touchstone(result, i: int) -> str:
     return touchstone_text(f, s[0], pb.compiled.z0, comment=comment)
 
 
-def render_all(result, extra_summary: dict | None = None, sweep=None) -> dict[str, bytes]:
+def render_all(result: Result, extra_summary: dict | None = None,
+               sweep: QuantitySweep | None = None) -> dict[str, bytes]:
     """Every output file's bytes, by file name (nothing is written). The mitigation
     files and summary key come only from a design space with two-layer boards
     (``mitigation_ladder`` is ``null`` otherwise); ``quantities.png``, the report's cost
@@ -112,8 +118,8 @@ def render_all(result, extra_summary: dict | None = None, sweep=None) -> dict[st
     return files
 
 
-def write_all(result, out_dir: str | Path, force: bool = False,
-              extra_summary: dict | None = None, sweep=None) -> list[Path]:
+def write_all(result: Result, out_dir: str | Path, force: bool = False,
+              extra_summary: dict | None = None, sweep: QuantitySweep | None = None) -> list[Path]:
     """Render every output file and write them as one result into ``out_dir``, all or
     nothing (:func:`stackopt.outputs.resultdir.write_result`).
 

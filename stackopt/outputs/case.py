@@ -12,11 +12,15 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from stackopt.outputs.facts import selected_index
 from stackopt.outputs.reasons import because, would_work_if
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["FourLayerCase", "four_layer_case", "STATUSES"]
 
@@ -68,7 +72,7 @@ class FourLayerCase:
             text += " Two layers would be feasible if " + ", or if ".join(self.unblock) + "."
         return text
 
-    def to_summary(self, result) -> dict:
+    def to_summary(self, result: Result) -> dict:
         """``summary.json``'s ``four_layer_case``."""
         ids = result.ids
 
@@ -90,7 +94,7 @@ class FourLayerCase:
                 "two_layer_would_work_if": list(self.unblock)}
 
 
-def _two_layer_blocker(result) -> tuple[tuple[str, ...], tuple[str, ...]]:
+def _two_layer_blocker(result: Result) -> tuple[tuple[str, ...], tuple[str, ...]]:
     """Why no two-layer board is feasible (what the nearest one breaks) and what would
     make one feasible, by up to three routes: from every two-layer combination where the
     ladder enumerates them, else from the search's own two-layer candidates."""
@@ -117,7 +121,7 @@ def _two_layer_blocker(result) -> tuple[tuple[str, ...], tuple[str, ...]]:
     return tuple(because(pb, ev, near[0])), tuple(fixes)
 
 
-def four_layer_case(result) -> FourLayerCase:
+def four_layer_case(result: Result) -> FourLayerCase:
     """Compute the :class:`FourLayerCase` of a search result."""
     ev, picks = result.evaluation, result.picks
     layers = ev.geometry.layers

@@ -7,6 +7,7 @@ nothing (:func:`stackopt.outputs.resultdir.write_result`).
 from __future__ import annotations
 
 import json
+from typing import TYPE_CHECKING
 
 import numpy as np
 from matplotlib.figure import Figure
@@ -17,6 +18,9 @@ from stackopt.outputs.facts import money
 from stackopt.outputs.plots import figure_bytes, new_figure, pick_color, plain, styled
 from stackopt.outputs.report_render import render_html, render_markdown
 from stackopt.outputs.sweep import label, named_picks
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["COMPARISON_FILES", "COMPARED_PICKS", "comparison_summary",
            "ranking_sentences", "comparison_document", "plot_comparison",
@@ -127,7 +131,7 @@ def ranking_sentences(comp: FabComparison) -> list[str]:
     return out
 
 
-def _cell(result, i: int | None, cur: str) -> str:
+def _cell(result: Result, i: int | None, cur: str) -> str:
     if i is None:
         return "none"
     ev = result.evaluation

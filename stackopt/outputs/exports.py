@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import json
 import math
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
@@ -17,6 +18,9 @@ import yaml
 
 from stackopt.outputs.facts import selected_index
 from stackopt.outputs.report_sections import OZ
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["candidates_csv", "front_csv", "mitigations_csv", "selected_yaml", "stackup_files",
            "selected_document",
@@ -84,7 +88,7 @@ def _csv(df: pd.DataFrame, header: bool = True) -> str:
     return head + "".join([fmt % row for row in zip(*(v for _, v in cols), strict=True)])
 
 
-def candidates_csv(result) -> str:
+def candidates_csv(result: Result) -> str:
     """Every evaluated candidate, one row each (``on_front`` flags the front), built and
     formatted :data:`CSV_BLOCK` rows at a time."""
     starts = range(0, max(result.n, 1), CSV_BLOCK)
@@ -92,7 +96,7 @@ def candidates_csv(result) -> str:
                         header=(a == 0)) for a in starts)
 
 
-def front_csv(result) -> str:
+def front_csv(result: Result) -> str:
     """The front, by increasing unit cost."""
     return _csv(result.frame(np.asarray(result.front_order, dtype=np.int64)))
 
@@ -111,7 +115,7 @@ def _round(x: float | None, sig: int) -> float | None:
     return None if x is None else float(f"{x:.{sig}g}")
 
 
-def selected_document(result, i: int | None = None) -> dict:
+def selected_document(result: Result, i: int | None = None) -> dict:
     """The recommended stackup (default: :func:`selected_index`) as a plain dict, layers
     top to bottom, quantities as strings with units."""
     i = selected_index(result) if i is None else int(i)
@@ -173,14 +177,14 @@ _HEADER = ("# Board stackup chosen by stackopt. ESTIMATE: confirm with the fab b
            "#   stackopt eval SCENARIO --stackup selected.yaml\n")
 
 
-def selected_yaml(result, i: int | None = None) -> str:
+def selected_yaml(result: Result, i: int | None = None) -> str:
     """The recommended stackup as YAML, complete enough for a fab drawing (see
     :func:`selected_document`)."""
     return _HEADER + yaml.safe_dump(selected_document(result, i), sort_keys=False,
                                     allow_unicode=True, width=100)
 
 
-def stackup_files(result) -> dict[str, str]:
+def stackup_files(result: Result) -> dict[str, str]:
     """``stackups/<ID>.yaml`` for every candidate on the front and every pick, in the
     stackup file format that ``stackopt eval --stackup`` reads, each naming its
     ``candidate: <ID>`` (by id, front first by increasing cost, then the picks)."""
@@ -215,7 +219,7 @@ def json_clean(x: object) -> object:
     return x
 
 
-def summary_json(result, extra: dict | None = None) -> str:
+def summary_json(result: Result, extra: dict | None = None) -> str:
     """``result.to_summary(extra)`` as JSON (keys in contract order, no NaN/inf: they
     become ``null``), deterministic."""
     data = json_clean(result.to_summary(extra))

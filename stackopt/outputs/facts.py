@@ -7,12 +7,17 @@ Nothing here formats for people except :func:`money`, :func:`mm` and :func:`db`.
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from stackopt.search.picks import PICKS
 from stackopt.search.responses import PLOT_POINTS
 from stackopt.search.responses import sweep_freqs as _sweep_freqs
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["RECOMMENDED", "unique_picks", "selected_index",
            "cost_items", "sweep_freqs", "responses", "passband_losses", "passband_summary",
@@ -58,7 +63,7 @@ def db(x: float | None, digits: int = 1, sign: bool = False) -> str:
     return f"{x:+.{digits}f} dB" if sign else f"{x:.{digits}f} dB"
 
 
-def unique_picks(result) -> list[tuple[int, list[str]]]:
+def unique_picks(result: Result) -> list[tuple[int, list[str]]]:
     """Distinct picked candidates in report order, each with the pick names it holds."""
     out: dict[int, list[str]] = {}
     for name in PICKS:
@@ -73,7 +78,7 @@ def unique_picks(result) -> list[tuple[int, list[str]]]:
 RECOMMENDED = ("cheapest_robust", "cheapest_meeting_requirements")
 
 
-def selected_index(result) -> int | None:
+def selected_index(result: Result) -> int | None:
     """The recommended candidate: the cheapest robust one (every requirement under every
     listed via model and the yield target), else the cheapest meeting the requirements,
     else the closest feasible one, else the evaluated candidate with the best margin
@@ -90,19 +95,20 @@ def selected_index(result) -> int | None:
     return int(np.argmax(result.evaluation.margin))
 
 
-def cost_items(result, idx) -> dict[str, np.ndarray]:
+def cost_items(result: Result, idx: Sequence[int] | np.ndarray) -> dict[str, np.ndarray]:
     """Itemised unit cost (name -> (k,) array, summing to the unit cost) of candidates
     ``idx``, as the search priced them."""
     idx = np.asarray(idx, dtype=np.int64)
     return {k: v[idx] for k, v in result.evaluation.cost_items.items()}
 
 
-def sweep_freqs(result, n: int = PLOT_POINTS) -> np.ndarray:
+def sweep_freqs(result: Result, n: int = PLOT_POINTS) -> np.ndarray:
     """The response sweep of a result, Hz (:func:`stackopt.search.responses.sweep_freqs`)."""
     return _sweep_freqs(result.problem, n)
 
 
-def responses(result, idx, freqs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def responses(result: Result, idx: Sequence[int] | np.ndarray, freqs: np.ndarray
+              ) -> tuple[np.ndarray, np.ndarray]:
     """(|S21| dB of candidates ``idx`` (k, F), |S21| dB with ideal grounding (F,)) over
     ``freqs`` (a sweep of :func:`sweep_freqs`), under the scenario's via model; read from
     the result's sweeps (solved once per result, not here)."""
@@ -114,12 +120,12 @@ def responses(result, idx, freqs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
             20 * np.log10(np.abs(s0[:, 1, 0]) + tiny))
 
 
-def top_dielectric(result) -> np.ndarray:
+def top_dielectric(result: Result) -> np.ndarray:
     """Name of the dielectric under the top copper of every candidate (N,) str."""
     return result.problem.space.slot_names(result.candidates)[:, 0]
 
 
-def shortfalls(result, i: int) -> list[tuple[str, float, float, float]]:
+def shortfalls(result: Result, i: int) -> list[tuple[str, float, float, float]]:
     """Per requirement of candidate ``i``: (label, attenuation, required, margin) in dB."""
     sc, ev = result.problem.scenario, result.evaluation
     return [(r.label, float(ev.attenuation[i, k]), float(r.min_attenuation),
@@ -127,7 +133,8 @@ def shortfalls(result, i: int) -> list[tuple[str, float, float, float]]:
             for k, r in enumerate(sc.requirements)]
 
 
-def passband_losses(result, idx) -> tuple[np.ndarray, np.ndarray] | None:
+def passband_losses(result: Result, idx: Sequence[int] | np.ndarray
+                    ) -> tuple[np.ndarray, np.ndarray] | None:
     """(worst insertion loss (k,), worst return loss (k,)) in dB of candidates ``idx``
     over the scenario's passband (:attr:`Scenario.passband_hz`; ``None`` without one):
     the largest -20 log10|S21| and the smallest -20 log10|S11| on the log-spaced
@@ -144,7 +151,7 @@ def passband_losses(result, idx) -> tuple[np.ndarray, np.ndarray] | None:
     return attenuation_db(s).max(axis=-1), rl.min(axis=-1)
 
 
-def passband_text(result) -> str:
+def passband_text(result: Result) -> str:
     """The passband in words, e.g. "863 MHz to 870 MHz", and where it comes from."""
     sc = result.problem.scenario
     band_hz = sc.passband_hz
@@ -156,7 +163,8 @@ def passband_text(result) -> str:
         "signal uses)")
 
 
-def ground_figures(result, idx) -> tuple[np.ndarray, np.ndarray]:
+def ground_figures(result: Result, idx: Sequence[int] | np.ndarray
+                   ) -> tuple[np.ndarray, np.ndarray]:
     """:func:`stackopt.circuit.grounds.worst_path_and_coupling` of candidates ``idx``
     under the scenario's via model: (worst path (k,), largest coupling (k,)) [H]."""
     from stackopt.circuit.grounds import worst_path_and_coupling
@@ -167,7 +175,7 @@ def ground_figures(result, idx) -> tuple[np.ndarray, np.ndarray]:
     return worst_path_and_coupling(pb.compiled, gb, pb.scenario.search.via_model)
 
 
-def passband_summary(result) -> dict | None:
+def passband_summary(result: Result) -> dict | None:
     """``summary.json``'s ``passband``: the band and, per named pick, its worst insertion
     and return loss over it (``None`` when the scenario has no passband)."""
     band = result.problem.scenario.passband_hz

@@ -10,6 +10,7 @@ from __future__ import annotations
 import functools
 import io
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import matplotlib as mpl
 import numpy as np
@@ -19,6 +20,9 @@ from stackopt.outputs.facts import money_digits, plural, responses, sweep_freqs,
 from stackopt.outputs.files import atomic_write_bytes
 from stackopt.outputs.robust_text import model_mark
 from stackopt.search.picks import PICKS
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["STYLE", "styled", "new_figure", "figure_bytes", "save_png", "save_svg",
            "plot_front", "plot_response", "plain", "LAYER_MARKERS", "layer_color", "pick_color"]
@@ -94,7 +98,7 @@ def save_svg(fig: Figure, path: str | Path) -> Path:
     return atomic_write_bytes(path, figure_bytes(fig, "svg"))
 
 
-def _perf_axis(result) -> tuple[np.ndarray, str, bool]:
+def _perf_axis(result: Result) -> tuple[np.ndarray, str, bool]:
     """(values, label, higher is better) of the electrical axis."""
     ev = result.evaluation
     if result.problem.scenario.requirements:
@@ -109,7 +113,7 @@ def _no_data(ax, text: str) -> None:
 
 
 @styled
-def plot_front(result) -> Figure:
+def plot_front(result: Result) -> Figure:
     """Cost against margin of every evaluated candidate: infeasible ones faint grey,
     feasible ones faint by layer count, the Pareto front bold (marker by layer count),
     the requirement line at 0 dB margin, and the picks annotated."""
@@ -178,7 +182,7 @@ def plot_front(result) -> Figure:
     return fig
 
 
-def _requirement_marks(ax, result, ylo: float) -> None:
+def _requirement_marks(ax, result: Result, ylo: float) -> None:
     """Each requirement where it applies: a band as a shaded band with its limit line; a
     single frequency as a marker at the limit with a short bar up to 0 dB (the region a
     curve must stay below), not as a band it does not have."""
@@ -193,6 +197,7 @@ def _requirement_marks(ax, result, ylo: float) -> None:
                     label="requirement: stay below the mark" if first else None)
             where = f0
         else:
+            assert r.band is not None  # a requirement has a frequency or a band
             lo, hi = r.band[0] / 1e9, r.band[1] / 1e9
             ax.fill_between([lo, hi], [top, top], [0, 0], color="#d62728", alpha=0.12,
                             lw=0, zorder=1,
@@ -205,7 +210,7 @@ def _requirement_marks(ax, result, ylo: float) -> None:
 
 
 @styled
-def plot_response(result) -> Figure:
+def plot_response(result: Result) -> Figure:
     """|S21| in dB of each pick against the same circuit with ideal grounding, over a
     sweep covering the requirements, with the requirement marks."""
     fig = new_figure(8.0, 4.8)

@@ -4,16 +4,22 @@ the requirements."""
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 from matplotlib.figure import Figure
 
 from stackopt.outputs.plots import LAYER_MARKERS, layer_color, new_figure, styled
 
+if TYPE_CHECKING:
+    from stackopt.search.ladder import Ladder
+    from stackopt.search.results import Result
+
 __all__ = ["plot_mitigations"]
 
 
 @styled
-def plot_mitigations(ladder, result) -> Figure:
+def plot_mitigations(ladder: Ladder, result: Result) -> Figure:
     """Cost per board against margin: the ladder's boards joined in order and numbered,
     the Pareto set of two-layer combinations, the four-layer board, and the 0 dB line."""
     fig = new_figure(8.0, 5.0)

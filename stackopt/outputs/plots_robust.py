@@ -3,6 +3,8 @@ its margin over the Monte Carlo builds, with the requirement line at 0 dB."""
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 from matplotlib.figure import Figure
 
@@ -10,6 +12,9 @@ from stackopt.outputs.facts import unique_picks
 from stackopt.outputs.plots import new_figure, styled
 from stackopt.outputs.robust_text import model_mark, percent
 from stackopt.search.picks import PICKS
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["plot_robustness", "ROBUSTNESS_SENTENCE"]
 
@@ -24,7 +29,7 @@ ROBUSTNESS_SENTENCE = (
 
 
 @styled
-def plot_robustness(result) -> Figure:
+def plot_robustness(result: Result) -> Figure:
     """Margin by via model and Monte Carlo distribution per distinct pick."""
     picks = unique_picks(result)
     fig = new_figure(7.6, 1.5 + 0.8 * max(len(picks), 1))

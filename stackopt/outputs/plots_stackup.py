@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 from matplotlib.figure import Figure
 from matplotlib.patches import Rectangle
@@ -10,6 +12,9 @@ from stackopt.outputs.facts import cost_items, money_digits, unique_picks
 from stackopt.outputs.plots import new_figure, pick_color, plain, styled
 from stackopt.outputs.robust_text import model_mark
 from stackopt.search.picks import PICKS
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["plot_stackups", "plot_costs", "plot_prepregs", "LABEL_PT", "MAX_WIDTH_IN"]
 
@@ -69,7 +74,7 @@ def _draw_stackup(ax, st, title: str, color: str) -> None:
 
 
 @styled
-def plot_stackups(result) -> Figure:
+def plot_stackups(result: Result) -> Figure:
     """Cross-section of each pick: dielectrics to scale, copper drawn at least 2 % of the
     board so it stays visible (hatched copper is a plane), every layer labelled with
     material, thickness and Dk."""
@@ -99,7 +104,7 @@ def plot_stackups(result) -> Figure:
 
 
 @styled
-def plot_costs(result) -> Figure:
+def plot_costs(result: Result) -> Figure:
     """Itemised cost per board of each pick as stacked bars (items that are zero for
     every pick are left out), with the total and the lot cost over each bar."""
     fig = new_figure(8.0, 4.8)
@@ -139,7 +144,7 @@ def plot_costs(result) -> Figure:
 
 
 @styled
-def plot_prepregs(result) -> Figure:
+def plot_prepregs(result: Result) -> Figure:
     """The dielectric under the top copper, one row per stocked option that gives a board
     that can be built (:func:`stackopt.outputs.prepregs.prepreg_rows`): the margin of the
     cheapest board using it (left, best margin with it as a tick) and its cost per board

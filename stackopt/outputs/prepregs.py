@@ -11,11 +11,15 @@ search computes one). The report, the console and ``prepregs.png`` read these ro
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from stackopt.outputs.facts import db, mm, money, money_digits, top_dielectric
 from stackopt.outputs.reasons import because
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["PrepregRow", "top_options", "prepreg_rows", "prepreg_sentence", "prepreg_table"]
 
@@ -58,7 +62,7 @@ def _first(idx: np.ndarray, *keys: np.ndarray) -> int | None:
     return int(idx[np.lexsort((idx, *[k[idx] for k in reversed(keys)]))[0]])
 
 
-def prepreg_rows(result) -> list[PrepregRow]:
+def prepreg_rows(result: Result) -> list[PrepregRow]:
     """One :class:`PrepregRow` per stocked top dielectric reachable in the space."""
     ev = result.evaluation
     names = top_dielectric(result).astype(str)
@@ -82,7 +86,7 @@ def prepreg_rows(result) -> list[PrepregRow]:
     return out
 
 
-def prepreg_sentence(result, rows: list[PrepregRow] | None = None) -> str:
+def prepreg_sentence(result: Result, rows: list[PrepregRow] | None = None) -> str:
     """The cheapest option that meets every requirement and the one with most margin."""
     rows = prepreg_rows(result) if rows is None else rows
     ev, cur = result.evaluation, result.problem.table.currency
@@ -108,7 +112,7 @@ def prepreg_sentence(result, rows: list[PrepregRow] | None = None) -> str:
             f"{db(ev.margin[ci], sign=True)}; " + tail)
 
 
-def prepreg_table(result, rows: list[PrepregRow] | None = None, compact: bool = False
+def prepreg_table(result: Result, rows: list[PrepregRow] | None = None, compact: bool = False
                   ) -> tuple[list[str], list[list[str]]]:
     """(header, rows) of the prepreg answer; ``compact`` for the console (without the
     options that give no board that can be built)."""

@@ -11,6 +11,8 @@ they miss by.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from stackopt.model.mitigations import MITIGATIONS
 from stackopt.outputs.case import four_layer_case
 from stackopt.outputs.circuit_echo import ELEMENT_HEAD, GROUND_HEAD, element_rows, ground_rows
@@ -42,6 +44,10 @@ from stackopt.outputs.report_sections import (
 from stackopt.search.picks import PICKS
 from stackopt.units import format_quantity as fq
 
+if TYPE_CHECKING:
+    from stackopt.analyses.quantities import QuantitySweep
+    from stackopt.search.results import Result
+
 __all__ = ["report_document", "report_markdown", "report_html", "IMAGE_FILES"]
 
 #: Image keys and the file names :func:`stackopt.outputs.bundle.write_all` gives them.
@@ -52,7 +58,7 @@ IMAGE_FILES = {"pareto": "pareto.png", "response": "response.png",
 _WORDS = {2: "two", 4: "four", 6: "six", 8: "eight", 10: "ten", 12: "twelve"}
 
 
-def _layers(result, i: int) -> int:
+def _layers(result: Result, i: int) -> int:
     return int(result.evaluation.geometry.layers[i])
 
 
@@ -60,7 +66,7 @@ def _words(n: int) -> str:
     return _WORDS.get(n, str(n))
 
 
-def _misses(result, i: int) -> str:
+def _misses(result: Result, i: int) -> str:
     """``"misses 3rd harmonic by 9.0 dB"`` (the failing requirements of ``i``)."""
     fails = [(lab, m) for lab, _a, _r, m in shortfalls(result, i) if m < 0]
     if not fails:
@@ -68,13 +74,13 @@ def _misses(result, i: int) -> str:
     return "misses " + ", ".join(f"{lab} by {-m:.1f} dB" for lab, m in fails)
 
 
-def _mits(result, i: int) -> list[str]:
+def _mits(result: Result, i: int) -> list[str]:
     g = result.evaluation.geometry
     return [MITIGATIONS[m].words
             for m in result.problem.space.mitigations if g.flags[m][i]]
 
 
-def _compare_table(result, c) -> tuple:
+def _compare_table(result: Result, c) -> tuple:
     """Cheapest feasible two-layer board, best two-layer board (if another) and the
     recommendation side by side; the difference is recommended minus cheapest two-layer."""
     ev, cur = result.evaluation, result.problem.table.currency
@@ -123,7 +129,7 @@ def _compare_table(result, c) -> tuple:
     return ("table", head, rows)
 
 
-def _nothing_meets(result, c) -> list[tuple]:
+def _nothing_meets(result: Result, c) -> list[tuple]:
     ev, cur = result.evaluation, result.problem.table.currency
     out: list[tuple] = [("h2", "Does any stackup meet the requirements?")]
     close = result.closest(3)
@@ -158,7 +164,7 @@ def _nothing_meets(result, c) -> list[tuple]:
     return out
 
 
-def first_screen(result) -> list[tuple]:
+def first_screen(result: Result) -> list[tuple]:
     """The answer, then the comparison table (or the closest candidates)."""
     ev, cur = result.evaluation, result.problem.table.currency
     q = result.problem.scenario.board.quantity
@@ -219,7 +225,7 @@ def first_screen(result) -> list[tuple]:
     return out
 
 
-def picks_table(result) -> tuple:
+def picks_table(result: Result) -> tuple:
     """Every named pick in one table."""
     ev, cur = result.evaluation, result.problem.table.currency
     rows = []
@@ -243,7 +249,7 @@ def picks_table(result) -> tuple:
     return ("table", head, rows)
 
 
-def report_document(result, sweep=None) -> list[tuple]:
+def report_document(result: Result, sweep: QuantitySweep | None = None) -> list[tuple]:
     """The report's content as plain-text blocks, first screen first; ``sweep`` (a
     :class:`~stackopt.analyses.quantities.QuantitySweep`) adds the cost against quantity."""
     sc = result.problem.scenario
@@ -298,14 +304,16 @@ def report_document(result, sweep=None) -> list[tuple]:
     return blocks
 
 
-def report_markdown(result, images: dict[str, str] | None = None, sweep=None) -> str:
+def report_markdown(result: Result, images: dict[str, str] | None = None,
+                    sweep: QuantitySweep | None = None) -> str:
     """The report as Markdown; ``images`` maps image keys to relative file names
     (default :data:`IMAGE_FILES`, the names written next to ``report.md``)."""
     return render_markdown(report_document(result, sweep),
                            IMAGE_FILES if images is None else images)
 
 
-def report_html(result, images: dict[str, bytes] | None = None, sweep=None) -> str:
+def report_html(result: Result, images: dict[str, bytes] | None = None,
+                sweep: QuantitySweep | None = None) -> str:
     """The report as one standalone HTML page; ``images`` maps image keys to PNG bytes,
     which are inlined (no image is shown for a missing key)."""
     return render_html(report_document(result, sweep), images,

@@ -3,18 +3,23 @@ coupons, by what factor, and how well one factor explains every coupon."""
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from stackopt.outputs.facts import mm
 from stackopt.units import format_quantity as fq
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["calibration_section", "calibration_note"]
 
 
-def _ref(result):
+def _ref(result: Result):
     cal = result.problem.scenario.search.calibration
     return None if cal is None or isinstance(cal, str) else cal
 
 
-def calibration_note(result) -> str:
+def calibration_note(result: Result) -> str:
     """One clause for the assumptions: '' uncalibrated, else the factor and the file."""
     cal = _ref(result)
     if cal is None:
@@ -28,7 +33,7 @@ def calibration_note(result) -> str:
             f"mutual inductances x{k:.3g} (from {cal.file})")
 
 
-def calibration_section(result) -> list[tuple]:
+def calibration_section(result: Result) -> list[tuple]:
     """Blocks of the report's calibration section (none when uncalibrated)."""
     cal = _ref(result)
     if cal is None:

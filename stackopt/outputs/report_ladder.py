@@ -4,23 +4,29 @@ two-layer combinations and the four-layer board (plain-text blocks, see
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 
 from stackopt.model.mitigations import MITIGATIONS
 from stackopt.outputs.facts import db, mm, money
 from stackopt.outputs.reasons import because, would_work_if
 
+if TYPE_CHECKING:
+    from stackopt.search.ladder import Ladder
+    from stackopt.search.results import Result
+
 __all__ = ["ladder_section"]
 
 
-def _misses(ladder, k: int) -> str:
+def _misses(ladder: Ladder, k: int) -> str:
     ev, reqs = ladder.evaluation, ladder.problem.scenario.requirements
     fails = [f"{r.label} by {r.min_attenuation - ev.attenuation[k, j]:.1f} dB"
              for j, r in enumerate(reqs) if ev.attenuation[k, j] < r.min_attenuation]
     return ", ".join(fails) or "nothing"
 
 
-def _answer(ladder, cur: str, q: int) -> str:
+def _answer(ladder: Ladder, cur: str, q: int) -> str:
     ev = ladder.evaluation
     c0, end = float(ev.unit_cost[0]), len(ev.unit_cost) - 1
     k = ladder.first_meeting
@@ -66,7 +72,7 @@ def _answer(ladder, cur: str, q: int) -> str:
     return text
 
 
-def _step_rows(ladder, cur: str) -> list[list[str]]:
+def _step_rows(ladder: Ladder, cur: str) -> list[list[str]]:
     ev, reqs = ladder.evaluation, ladder.problem.scenario.requirements
     rows = []
     for k in range(len(ev.unit_cost)):
@@ -87,7 +93,7 @@ def _step_rows(ladder, cur: str) -> list[list[str]]:
     return rows
 
 
-def _pareto_rows(ladder, cur: str) -> list[list[str]]:
+def _pareto_rows(ladder: Ladder, cur: str) -> list[list[str]]:
     sp, pev = ladder.problem.space, ladder.pareto_evaluation
     rows = []
     for i in range(len(pev.unit_cost)):
@@ -99,7 +105,7 @@ def _pareto_rows(ladder, cur: str) -> list[list[str]]:
     return rows
 
 
-def ladder_section(result, ladder) -> list[tuple]:
+def ladder_section(result: Result, ladder: Ladder | None) -> list[tuple]:
     """The section's blocks (empty when the space has no two-layer boards)."""
     if ladder is None:
         return []

@@ -4,8 +4,12 @@ stackup with the field-solver check, and the line risks in words."""
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 from stackopt.outputs.facts import mm
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["impedance_table", "layer_lines", "line_risks", "WIDE_TRACE"]
 
@@ -40,7 +44,7 @@ def layer_lines(rows) -> dict[str, list[str]]:
     return out
 
 
-def impedance_table(result, i: int | None) -> list[tuple]:
+def impedance_table(result: Result, i: int | None) -> list[tuple]:
     """Report blocks: every line of candidate ``i`` with layer, type, target, width,
     spacing, achieved impedance by closed form and by field solve."""
     if i is None or not result.problem.scenario.lines:
@@ -67,7 +71,7 @@ def impedance_table(result, i: int | None) -> list[tuple]:
              rows), ("p", note)]
 
 
-def line_risks(result, i: int, what: str) -> list[str]:
+def line_risks(result: Result, i: int, what: str) -> list[str]:
     """Sentences about the lines of candidate ``i`` (``what`` names the candidate)."""
     out = []
     for r in result.lines(i, check=False):

@@ -6,6 +6,7 @@ where it wants (sentences from :mod:`stackopt.outputs.robust_text`)."""
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 from stackopt.outputs.facts import db, selected_index, unique_picks
 from stackopt.outputs.plots_robust import ROBUSTNESS_SENTENCE
@@ -18,23 +19,26 @@ from stackopt.outputs.robust_text import (
 )
 from stackopt.search.picks import PICKS
 
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
+
 __all__ = ["recommendation_blocks", "robustness_section", "margin_cell"]
 
 
-def margin_cell(result, i: int) -> str:
+def margin_cell(result: Result, i: int) -> str:
     """A pick's nominal margin, marked when it is model-dependent."""
     text = db(result.evaluation.margin[i], sign=True)
     return text + model_mark(result, i)
 
 
-def _limit_of(result, i: int) -> str | None:
+def _limit_of(result: Result, i: int) -> str | None:
     for name, j in result.picks.items():
         if j == i and limit_line(result, name):
             return limit_line(result, name)
     return None
 
 
-def recommendation_blocks(result) -> list[tuple]:
+def recommendation_blocks(result: Result) -> list[tuple]:
     """One answer line on the recommended board and one on what limits it."""
     out: list[tuple] = []
     line = recommendation_line(result, result.problem.table.currency)
@@ -47,7 +51,7 @@ def recommendation_blocks(result) -> list[tuple]:
     return out
 
 
-def robustness_section(result) -> list[tuple]:
+def robustness_section(result: Result) -> list[tuple]:
     """Margin under every via model, yield and impedance spread of every pick."""
     if not result.robust:
         return []

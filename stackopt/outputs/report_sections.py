@@ -5,6 +5,7 @@ model spread, assumptions and cautions (plain-text blocks, see
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 from stackopt.model.mitigations import MITIGATIONS
 from stackopt.outputs.case import four_layer_case
@@ -13,6 +14,9 @@ from stackopt.outputs.report_calibration import calibration_note
 from stackopt.outputs.report_lines import WIDE_TRACE, impedance_table, layer_lines, line_risks
 from stackopt.search.picks import PICKS
 from stackopt.units import COPPER_M_PER_OZ
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["risks", "stackup_table", "spread_table", "assumptions", "cautions",
            "method_line", "OZ", "WIDE_TRACE", "THIN_DIELECTRIC", "SAFETY_CAUTION"]
@@ -30,7 +34,7 @@ SAFETY_CAUTION = (
     "materials and the advice of a licensed or otherwise qualified professional.")
 
 
-def method_line(result) -> str:
+def method_line(result: Result) -> str:
     """The tool, the method and the counts in one sentence."""
     from stackopt import __version__
 
@@ -47,7 +51,7 @@ def _copper_weight(t: float) -> str:
     return f"{oz:.2g} oz ({t * 1e6:.0f} um)"
 
 
-def risks(result) -> list[str]:
+def risks(result: Result) -> list[str]:
     """Risks of the choice, in words (line widths, safety insulation, model spread,
     margin, lead time, layout rules the two-layer figure depends on)."""
     ev, sc = result.evaluation, result.problem.scenario
@@ -93,7 +97,7 @@ def risks(result) -> list[str]:
     return out
 
 
-def stackup_table(result) -> list[tuple]:
+def stackup_table(result: Result) -> list[tuple]:
     """The recommended stackup as a table for the fab drawing."""
     sel = selected_index(result)
     if sel is None:
@@ -130,7 +134,7 @@ def stackup_table(result) -> list[tuple]:
     ]
 
 
-def spread_table(result) -> list[tuple]:
+def spread_table(result: Result) -> list[tuple]:
     """Margin of each pick under every via model."""
     if not result.spread:
         return []
@@ -149,7 +153,7 @@ def spread_table(result) -> list[tuple]:
             ("table", ["Pick", "Candidate", *models, "Spread"], rows)]
 
 
-def assumptions(result) -> list[str]:
+def assumptions(result: Result) -> list[str]:
     """Models, quantities and data sources used."""
     sc, tab = result.problem.scenario, result.problem.table
     b = sc.board
@@ -175,7 +179,7 @@ def assumptions(result) -> list[str]:
     ]
 
 
-def cautions(result) -> list[str]:
+def cautions(result: Result) -> list[str]:
     """What the numbers are not."""
     out = [
         "Every figure is a closed-form estimate, not a field-solver result or a measurement. "

@@ -6,11 +6,15 @@ solved here."""
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from stackopt.outputs.facts import money
 from stackopt.search.results import MODEL_DEPENDENT_DB
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["recommendation_line", "limit_line", "model_mark", "MODEL_MARK", "MODEL_RULE",
            "percent", "robust_cells"]
@@ -31,21 +35,21 @@ def percent(p: float | None) -> str:
     return f"{100 * p:.1f} %"
 
 
-def model_mark(result, i: int) -> str:
+def model_mark(result: Result, i: int) -> str:
     """:data:`MODEL_MARK` for a model-dependent candidate ``i``, else ``""``."""
     return MODEL_MARK if bool(result.model_dependent[i]) else ""
 
 
-def _models_met(result, i: int) -> tuple[int, int]:
+def _models_met(result: Result, i: int) -> tuple[int, int]:
     ok = [bool(a[i] >= 0) for a in result.robust.values()]
     return sum(ok), len(ok)
 
 
-def _yield(result, i: int) -> float | None:
+def _yield(result: Result, i: int) -> float | None:
     return None if result.yields is None else float(result.yields[i])
 
 
-def recommendation_line(result, currency: str) -> str | None:
+def recommendation_line(result: Result, currency: str) -> str | None:
     """One line: the recommended (cheapest robust) board and how it differs from the
     nominal cheapest one (``None`` when neither exists or robustness was not run)."""
     if not result.robust:
@@ -57,6 +61,7 @@ def recommendation_line(result, currency: str) -> str | None:
     if i is None and j is None:
         return None
     if i is None:
+        assert j is not None  # one of them exists (checked above)
         k, n = _models_met(result, j)
         tgt = result.problem.scenario.search.robustness.yield_target
         return (f"No board meets every requirement under every listed via model ({names}) "
@@ -72,13 +77,13 @@ def recommendation_line(result, currency: str) -> str | None:
             f"{n} models and in {percent(_yield(result, j))} of builds.")
 
 
-def limit_line(result, pick: str) -> str | None:
+def limit_line(result: Result, pick: str) -> str | None:
     """The limiting-mechanism sentence of a pick (``None`` when not analysed)."""
     d = result.limits.get(pick)
     return None if d is None else str(d["sentence"])
 
 
-def robust_cells(result, i: int) -> tuple[str, str]:
+def robust_cells(result: Result, i: int) -> tuple[str, str]:
     """(robust margin with the model-dependence mark, yield) as table cells."""
     m = float(result.robust_margin[i]) if len(result.robust) else float("nan")
     text = f"{m:+.1f} dB" if np.isfinite(m) else "n/a"

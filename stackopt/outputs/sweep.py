@@ -7,6 +7,8 @@ The rows name every pick of each lot's search plus ``recommended`` (the board
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 from matplotlib.figure import Figure
 from matplotlib.ticker import FuncFormatter
@@ -15,6 +17,9 @@ from stackopt.analyses.quantities import QuantitySweep, quantity_grid, unit_cost
 from stackopt.outputs.facts import money, selected_index
 from stackopt.outputs.plots import new_figure, pick_color, plain, styled
 from stackopt.search.picks import PICKS
+
+if TYPE_CHECKING:
+    from stackopt.search.results import Result
 
 __all__ = ["SWEEP_PICKS", "label", "named_picks", "sweep_summary", "sweep_sentence",
            "sweep_section", "plot_quantities"]
@@ -32,7 +37,7 @@ def label(name: str) -> str:
         PICKS[name].report if name in PICKS else name)
 
 
-def named_picks(result) -> dict[str, int | None]:
+def named_picks(result: Result) -> dict[str, int | None]:
     """Index of every pick of a search, plus ``recommended`` (the sweep's rows and the
     fab comparison both show these)."""
     out = dict(result.picks)
@@ -65,9 +70,9 @@ def _pairs(sweep: QuantitySweep) -> list[tuple[int, float, float, int]]:
     return out
 
 
-def _board(result, i: int | None) -> tuple | None:
+def _board(result: Result, i: int | None) -> tuple | None:
     """A board's identity (every design choice), comparable across lots' searches."""
-    return None if i is None else tuple(result.candidates.take([i]).matrix()[0].tolist())
+    return None if i is None else tuple(result.candidates.take(np.array([i])).matrix()[0].tolist())
 
 
 def _changes(sweep: QuantitySweep, name: str) -> str:
