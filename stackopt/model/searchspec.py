@@ -18,6 +18,7 @@ from stackopt.model.fields import (
     NonNegativeFloat,
     NonNegativeLength,
     PositiveLength,
+    Tolerance,
 )
 from stackopt.model.mitigations import mitigation_error
 from stackopt.physics.inductance import DEFAULT_VIA_MODEL, VIA_MODELS
@@ -127,10 +128,11 @@ class RobustnessSpec(BaseModel):
     solve per phenotype. List all four for the strictest test.
 
     Monte Carlo over the fab's and the parts' tolerances (``samples`` builds, Latin
-    hypercube from the search seed): the dielectric under the top copper (``thickness``, a
-    fraction; default the cost table's ``thickness_tolerance``), its Dk (``dk``, fraction),
-    etched trace width (``etch``, m) and drill (``drill``, m) as normal deviates with the
-    tolerance at 3 sigma (``distribution: uniform`` spreads them evenly over ± tolerance
+    hypercube from the search seed): every dielectric layer's thickness, each with its
+    material's ``thickness_tolerance`` from the cost table (else the table's capabilities'
+    one; ``thickness``, a fraction, overrides them all), the Dk of every dielectric
+    (``dk``, fraction), etched trace width (``etch``, m) and drill (``drill``, m) as normal
+    deviates with the tolerance at 3 sigma (``distribution: uniform`` spreads them evenly over ± tolerance
     instead), and every part's value uniform over ± its ``tolerance`` (default
     :data:`stackopt.analyses.tolerances.PART_TOLERANCE`).
     """
@@ -141,8 +143,8 @@ class RobustnessSpec(BaseModel):
                                     "VIA_MODELS")
     samples: int = Field(default=256, ge=16, le=100_000)
     yield_target: float = Field(default=0.95, gt=0.0, le=1.0)
-    thickness: NonNegativeFloat | None = None
-    dk: NonNegativeFloat = 0.05
+    thickness: Tolerance | None = None
+    dk: Tolerance = 0.05
     etch: NonNegativeLength = 25e-6
     drill: NonNegativeLength = 25e-6
     distribution: Literal["normal", "uniform"] = "normal"
@@ -156,10 +158,6 @@ class RobustnessSpec(BaseModel):
                 raise ValueError(f"unknown via model {m!r} in robustness.models"
                                  f"{did_you_mean(m, VIA_MODELS)}; use some of: "
                                  f"{', '.join(VIA_MODELS)}")
-        for k in ("thickness", "dk"):
-            v = getattr(self, k)
-            if v is not None and v >= 0.5:
-                raise ValueError(f"robustness.{k} is a fraction below 50 %, e.g. '10 %'")
         return self
 
 
