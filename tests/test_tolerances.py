@@ -35,6 +35,7 @@ from stackopt.inputs.costtable import load_cost_table
 from stackopt.inputs.scenario import load_scenario
 from stackopt.search.exact import exact_candidates
 from stackopt.search.problem import Problem
+from stackopt.search.space import Candidates
 
 ROOT = Path(__file__).resolve().parents[1]
 TWO = ROOT / "scenarios" / "two_layer_only.yaml"
@@ -236,3 +237,37 @@ def test_microstrip_spread_matches_scikit_rf(tmp_path):
              for s in range(d.n)]
         assert mc.impedance_min[i, 0] == pytest.approx(min(z), rel=1e-6)
         assert mc.impedance_max[i, 0] == pytest.approx(max(z), rel=1e-6)
+
+
+def test_equal_yield_keys_give_equal_builds(tmp_path):
+    """The cheapest-robust search samples one candidate per yield key; candidates sharing
+    it (boards that differ only below the ground plane) get the same margin in every
+    build, and boards whose via crosses differently split layers do not share it."""
+    from stackopt.analyses.tolerances import yield_key
+    from stackopt.search.phenotype import unique_rows
+
+    table = _table(tmp_path, {"2116": "3 %"}, "6 %")
+    p = _four_layer_problem(tmp_path, table, 10.0, {"samples": 32})
+    reps = exact_candidates(p).representatives
+    g = p.space.geometry(reps)
+    i = int(np.flatnonzero(g.stack.ground_plane(0)[:, 0] == 1)[0])  # vias end on L2
+    one = reps.take(np.array([i]))
+    cores = len(p.space.options["core"])
+    variants = Candidates.concat([one.with_slot(1, o) for o in range(cores)])
+    gv = p.space.geometry(variants)
+    assert len(np.unique(gv.slot_material[:, 1])) == cores  # every core below the plane
+    first, _ = unique_rows(yield_key(p, gv))
+    assert len(first) == 1
+    d = build_draws(p)
+    mc = monte_carlo(p, gv, np.zeros((cores, 0)), "goldfarb-pucel", d)
+    assert np.array_equal(mc.margin, np.broadcast_to(mc.margin[0], mc.margin.shape))
+    # vias to L3 through 0.05 + 0.2 mm and through 0.1 + 0.15 mm: same nominal height,
+    # different builds, different keys
+    l3 = np.flatnonzero(g.stack.ground_plane(0)[:, 0] == 2)
+    h = np.round(g.via_height[l3] * 1e9)
+    pair = next(l3[h == v] for v in np.unique(h) if np.sum(h == v) >= 2
+                and len({tuple(r) for r in g.stack.dielectric[l3[h == v], :2]}) >= 2)[:2]
+    gp = p.space.geometry(reps.take(pair))
+    assert len(unique_rows(yield_key(p, gp))[0]) == 2
+    mp = monte_carlo(p, gp, np.zeros((2, 0)), "goldfarb-pucel", d)
+    assert not np.array_equal(mp.margin[0], mp.margin[1])

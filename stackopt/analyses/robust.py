@@ -14,17 +14,18 @@ from dataclasses import replace
 import numpy as np
 
 from stackopt.analyses.limits import pick_limits
-from stackopt.analyses.tolerances import build_draws, monte_carlo
+from stackopt.analyses.tolerances import build_draws, monte_carlo, yield_key
 from stackopt.circuit.metrics import attenuation_db
 from stackopt.physics.inductance import VIA_MODELS
-from stackopt.search.phenotype import batch_key, unique_rows
+from stackopt.search.phenotype import unique_rows
 from stackopt.search.problem import Problem
 from stackopt.search.results import Result
 from stackopt.search.space import Geometry
 
 __all__ = ["margin_under", "margins_by_model", "analyse", "ROBUST_CHUNK"]
 
-#: Candidates sampled per Monte Carlo batch while looking for the cheapest robust one.
+#: Most candidates sampled per Monte Carlo batch while looking for the cheapest robust one
+#: (batches grow 1, 4, 16, ... up to this).
 ROBUST_CHUNK = 32
 #: At most this many distinct ground batches are sampled in that search (bounds the time
 #: when many boards meet under every model but few reach the yield target).
@@ -83,17 +84,19 @@ def _cheapest_robust(r: Result, sampler: _Sampler) -> int | None:
     idx = np.flatnonzero(r.robust_meets)
     order = idx[np.lexsort((idx, r.complexity[idx], -r.robust_margin[idx],
                             r.evaluation.unit_cost[idx]))]
-    if len(order):  # the yield depends only on the circuit's input: one per ground batch
+    if len(order):  # one candidate per distinct yield (circuit input and layer tolerances)
         p = r.problem
-        first, _ = unique_rows(batch_key(p.ground_batch(p.space.geometry(
-            r.candidates.take(order)))))
+        g = p.space.geometry(r.candidates.take(order))
+        first, _ = unique_rows(yield_key(p, g, sampler.draws.thickness_tolerance))
         order = order[np.sort(first)][:MAX_ROBUST_SAMPLED]  # cheapest of each, cost order
-    for i0 in range(0, len(order), ROBUST_CHUNK):  # batches, usually only the first
-        chunk = order[i0:i0 + ROBUST_CHUNK]
+    i0, size = 0, 1
+    while i0 < len(order):  # growing batches: usually the first (cheapest) one is robust
+        chunk = order[i0:i0 + size]
         sampler.sample(chunk)
         ok = chunk[sampler.yields[chunk] >= target - 1e-12]
         if len(ok):
             return int(ok[0])
+        i0, size = i0 + size, min(4 * size, ROBUST_CHUNK)
     return None
 
 

@@ -53,12 +53,12 @@ from stackopt.circuit.mna import CHUNK, mna_s_varied
 from stackopt.model.circuit import Circuit
 from stackopt.model.geometry import LayerStack
 from stackopt.model.scenario import RobustnessSpec
-from stackopt.search.phenotype import batch_key, unique_rows
+from stackopt.search.phenotype import batch_key, quantize, unique_rows
 from stackopt.search.problem import Problem
 from stackopt.search.space import Geometry
 
 __all__ = ["PART_TOLERANCE", "Draws", "MonteCarlo", "draw", "latin_hypercube", "part_impedances",
-           "monte_carlo", "expanded_circuit", "layer_tolerances", "built"]
+           "monte_carlo", "expanded_circuit", "layer_tolerances", "built", "yield_key"]
 
 #: Value tolerance of a part that does not give ``tolerance:`` (± fraction): capacitors
 #: and inductors 5 % (the usual "J" grade of RF chip parts), resistors 1 % (common
@@ -200,6 +200,20 @@ def layer_tolerances(problem: Problem, g: Geometry, t: float | None = None) -> n
     own = problem.table.thickness_tolerances()
     m = g.slot_material
     return np.where(m >= 0, own[np.clip(m, 0, None)], default)
+
+
+def yield_key(problem: Problem, g: Geometry, t: float | None = None) -> np.ndarray:
+    """What a candidate's Monte Carlo margins depend on, one int row per candidate: its
+    circuit input (the ground batch's phenotype key) and the thickness and tolerance of
+    every layer above the planes its vias and top trace reach (each is drawn on its own;
+    ``t``: the scenario's override). Equal rows get equal margins in every build."""
+    st = g.stack
+    top = np.maximum(st.ground_plane(0)[:, 0], st.reference_plane(0)[:, 0])
+    above = np.arange(st.dielectric.shape[1])[None, :] < top[:, None]
+    tol = np.where(above, layer_tolerances(problem, g, t), 0.0)
+    return np.column_stack([batch_key(problem.ground_batch(g)),
+                            quantize(np.where(above, st.dielectric, 0.0)),
+                            np.round(tol * 1e6).astype(np.int64)])
 
 
 def build_draws(problem: Problem, seed: int | None = None) -> Draws:
