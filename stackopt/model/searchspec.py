@@ -132,8 +132,8 @@ class RobustnessSpec(BaseModel):
     material's ``thickness_tolerance`` from the cost table (else the table's capabilities'
     one; ``thickness``, a fraction, overrides them all), the Dk of every dielectric
     (``dk``, fraction), etched trace width (``etch``, m) and drill (``drill``, m) as normal
-    deviates with the tolerance at 3 sigma (``distribution: uniform`` spreads them evenly over ± tolerance
-    instead), and every part's value uniform over ± its ``tolerance`` (default
+    deviates with the tolerance at 3 sigma (``distribution: uniform`` spreads them evenly
+    over ± tolerance instead), and every part's value uniform over ± its ``tolerance`` (default
     :data:`stackopt.analyses.tolerances.PART_TOLERANCE`).
     """
 
