@@ -108,3 +108,50 @@ def test_every_pick_has_its_labels_and_a_rule():
     for name, p in PICKS.items():
         assert p.console and p.report and p.plot, name
         assert r.picks[name] is None or 0 <= r.picks[name] < r.n
+
+
+# ---- line types: one registry (physics/linetypes.py LINE_TYPES) -------------------------
+DUMMY_LINE = "dummy-surface-line"
+
+
+@pytest.fixture
+def dummy_line_type(monkeypatch):
+    """A dummy line type registered as an entry of the registry alone (invented: it has a
+    plain microstrip's features, so it takes the microstrip closed form)."""
+    from stackopt.physics import linetypes as lt
+
+    monkeypatch.setitem(lt.LINE_TYPES, DUMMY_LINE, lt.LineTypeEntry())
+    return DUMMY_LINE
+
+
+def _line_scenario(line_type):
+    base = _scenario(via_model="goldfarb-pucel", method="exact").model_dump()
+    base["lines"] = [{"name": "rf", "type": line_type, "impedance": 50.0}]
+    return Scenario.model_validate(base)
+
+
+def test_dummy_line_type_reaches_a_scenario_and_sizes_like_its_features(dummy_line_type):
+    from stackopt.physics.lines import microstrip
+    from stackopt.physics.linetypes import PAIR_TYPES, STRIPLINE_TYPES, LineSpec, line_width
+
+    sc = _line_scenario(dummy_line_type)
+    assert sc.lines[0].type == dummy_line_type
+    assert sc.lines[0].layer_rule == "outer"  # neither between planes nor a pair
+    assert dummy_line_type not in PAIR_TYPES and dummy_line_type not in STRIPLINE_TYPES
+    # sized by the microstrip closed form: the width gives back 50 ohm by Hammerstad-Jensen
+    w, ok = line_width(LineSpec(dummy_line_type, h=0.2e-3, er=4.3, t=35e-6), 50.0)
+    assert bool(ok)
+    z0, _ = microstrip(w, 0.2e-3, 4.3, 35e-6)
+    assert float(z0) == pytest.approx(50.0, rel=1e-5)
+    r = optimize(sc, TABLE, method="exact")
+    assert np.isfinite(r.evaluation.widths[:, 0]).any()
+
+
+def test_unregistered_line_type_is_refused_naming_the_registry():
+    from stackopt.physics.linetypes import LINE_TYPES
+
+    with pytest.raises(ValueError) as err:
+        _line_scenario("microstip")
+    text = str(err.value)
+    assert "unknown line type 'microstip'" in text and "microstrip" in text
+    assert all(name in text for name in LINE_TYPES)

@@ -27,7 +27,7 @@ from stackopt.model.searchspec import (
     SpaceSpec,
     ThicknessWindow,
 )
-from stackopt.physics.linetypes import PAIR_TYPES, STRIPLINE_TYPES, LineType
+from stackopt.physics.linetypes import PAIR_TYPES, STRIPLINE_TYPES, check_line_type
 
 __all__ = [
     "Board",
@@ -146,7 +146,8 @@ class ControlledLine(BaseModel):
 
     model_config = FROZEN
     name: str = Field(min_length=1, max_length=100)
-    type: LineType = "microstrip"
+    type: str = Field("microstrip", description="a key of "
+                      ":data:`stackopt.physics.linetypes.LINE_TYPES`")
     layer: str | None = Field(None, description="'outer', 'inner' or L1, L2, ...")
     impedance: Impedance | None = None
     differential: Impedance | None = Field(None, description="target Zdiff of a pair")
@@ -154,6 +155,11 @@ class ControlledLine(BaseModel):
     max_width: PositiveLength | None = None
     min_width: PositiveLength | None = None
     gap: PositiveLength | None = Field(None, description="CPWG gap to the coplanar ground")
+
+    @field_validator("type")
+    @classmethod
+    def _type(cls, v: str) -> str:
+        return check_line_type(v)
 
     @model_validator(mode="after")
     def _check(self) -> ControlledLine:

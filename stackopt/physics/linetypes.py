@@ -20,24 +20,84 @@ it takes the two dielectrics, the offset and the solder mask as they are.
 
 from __future__ import annotations
 
+from collections.abc import Iterator
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any, Literal, get_args
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 if TYPE_CHECKING:
     from stackopt.physics.synthesis import LineKind
 
-__all__ = ["LINE_TYPES", "PAIR_TYPES", "SOLVERS", "LineSpec", "closed_form", "field",
-           "line_width", "sized_impedance"]
+__all__ = ["LINE_TYPES", "PAIR_TYPES", "STRIPLINE_TYPES", "SOLVERS", "LineTypeEntry",
+           "LineSpec", "check_line_type", "closed_form", "field", "line_width",
+           "sized_impedance"]
 
-LineType = Literal["microstrip", "stripline", "cpwg", "diff-microstrip", "diff-stripline"]
-#: Line type names, as the scenario and ``calc line`` spell them.
-LINE_TYPES: tuple[str, ...] = get_args(LineType)
+
+@dataclass(frozen=True)
+class LineTypeEntry:
+    """What a line type is made of; every reader (closed forms, field solve, width
+    synthesis, the scenario's checks and default layers) dispatches on these, never on the
+    type's name."""
+
+    #: An edge-coupled pair: sized for Z_diff = 2 Z_odd, needs a spacing ``s``.
+    pair: bool = False
+    #: Between two planes (stripline family): needs ``h_above``; an inner layer.
+    between_planes: bool = False
+    #: With a coplanar ground beside the trace: needs a ``gap``.
+    coplanar: bool = False
+
+
+#: The line-type registry, as the scenario and ``calc line`` spell the names. Adding a
+#: type is one entry here (and a kernel in :func:`closed_form` if its features are new).
+LINE_TYPES: dict[str, LineTypeEntry] = {
+    "microstrip": LineTypeEntry(),
+    "stripline": LineTypeEntry(between_planes=True),
+    "cpwg": LineTypeEntry(coplanar=True),
+    "diff-microstrip": LineTypeEntry(pair=True),
+    "diff-stripline": LineTypeEntry(pair=True, between_planes=True),
+}
+
+
+class _TypesWith:
+    """The registered line types with one feature: a live view of :data:`LINE_TYPES`
+    (``name in PAIR_TYPES``; iterates in registry order)."""
+
+    def __init__(self, feature: str) -> None:
+        self.feature = feature
+
+    def __contains__(self, name: object) -> bool:
+        entry = LINE_TYPES.get(name) if isinstance(name, str) else None
+        return entry is not None and bool(getattr(entry, self.feature))
+
+    def __iter__(self) -> Iterator[str]:
+        return (n for n, e in LINE_TYPES.items() if getattr(e, self.feature))
+
+    def __repr__(self) -> str:
+        return f"<line types with {self.feature}: {', '.join(self)}>"
+
+
 #: The edge-coupled (differential) types; their target is Z_diff = 2 Z_odd.
-PAIR_TYPES = frozenset({"diff-microstrip", "diff-stripline"})
+PAIR_TYPES = _TypesWith("pair")
 #: Types between two planes (need ``h_above``).
-STRIPLINE_TYPES = frozenset({"stripline", "diff-stripline"})
+STRIPLINE_TYPES = _TypesWith("between_planes")
+
+
+def check_line_type(name: str) -> str:
+    """``name`` if it is a registered line type.
+
+    Raises
+    ------
+    ValueError
+        Naming the registered types (and the nearest one).
+    """
+    if name not in LINE_TYPES:
+        from stackopt.errors import did_you_mean
+
+        raise ValueError(f"unknown line type {name!r}{did_you_mean(name, list(LINE_TYPES))}; "
+                         f"use one of: {', '.join(LINE_TYPES)}")
+    return name
+
 #: How a line is solved.
 SOLVERS: tuple[str, ...] = ("closed-form", "field")
 
@@ -63,14 +123,13 @@ class LineSpec:
     model: str = "hammerstad-jensen"
 
     def __post_init__(self) -> None:
-        if self.type not in LINE_TYPES:
-            raise ValueError(f"unknown line type {self.type!r}; one of {LINE_TYPES}")
+        check_line_type(self.type)
         if (self.type in STRIPLINE_TYPES) != (self.h_above is not None):
             raise ValueError(f"{self.type} {'needs' if self.h_above is None else 'takes no'}"
                              " h_above (the dielectric from the trace to the upper plane)")
         if (self.type in PAIR_TYPES) != (self.s is not None):
             raise ValueError(f"{self.type}: a spacing s is for the diff- types only")
-        if (self.type == "cpwg") != (self.gap is not None):
+        if LINE_TYPES[self.type].coplanar != (self.gap is not None):
             raise ValueError(f"{self.type}: gap is for cpwg only")
 
     @property
@@ -112,7 +171,7 @@ def closed_form(spec: LineSpec, w) -> dict[str, np.ndarray]:
             centred = np.abs(off) <= 1e-9 * b
             out.update({k: np.where(centred, v, np.nan) for k, v in m.items()})
             out["eps_even"] = out["eps_odd"] = out["eps_eff"]
-    elif spec.type == "cpwg":
+    elif LINE_TYPES[spec.type].coplanar:
         out["z0"], out["eps_eff"] = cpwg(w, spec.gap, spec.h, spec.er, spec.t)
     else:
         out["z0"], out["eps_eff"] = microstrip(w, spec.h, spec.er, spec.t,
@@ -158,7 +217,7 @@ def _synthesis_form(spec: LineSpec) -> tuple[Any, Any, LineKind, dict[str, Any]]
         if spec.pair:
             return b, er, "coupled_stripline", {"s": spec.s}
         return b, er, "stripline", {"offset": off}
-    if spec.type == "cpwg":
+    if LINE_TYPES[spec.type].coplanar:
         return spec.h, spec.er, "cpwg", {"gap": spec.gap}
     if spec.pair:
         return spec.h, spec.er, "coupled_microstrip", {"s": spec.s}
