@@ -31,7 +31,7 @@ import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
-SCENARIOS = ("harmonic_lowpass", "two_layer_only", "consumer_emi")
+SCENARIOS = ("harmonic_lowpass", "two_layer_only", "consumer_emi", "lines_mixed")
 REPEATS = 3
 
 

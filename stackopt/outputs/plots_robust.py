@@ -60,7 +60,8 @@ def plot_robustness(result: Result) -> Figure:
     ax.set_yticks(range(len(picks)), labels[::-1])
     ax.set_ylim(-0.5, len(picks) - 1 + 0.75 + 0.09 * len(models))
     ax.set_xlabel("margin over the requirements [dB] (below 0: a requirement fails)")
-    ax.set_title("Margin by via model (markers) and over the simulated builds (box)")
+    ax.set_title("Margin of each pick by via model (markers)\nand over the simulated builds "
+                 "(box)")
     if models:
         fig.legend(loc="outside lower center", ncols=min(4, len(models)),
                    title="via model (filled: in the robust margin)")
