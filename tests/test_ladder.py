@@ -143,3 +143,61 @@ def test_infeasible_two_layer_space_is_said_plainly():
     assert "5000 ohm line 'z'" in answer and answer.endswith(".")
     assert "line_z_unreachable" not in answer
     assert "gives the 5000 ohm line 'z' its impedance" in answer
+
+
+@pytest.mark.parametrize("name", ["two", "emi", "harmonic"])
+def test_ladder_reads_the_search_rows_instead_of_solving_again(demos, name, monkeypatch):
+    """Every two-layer combination of these spaces is in the search's result, so the
+    ladder solves nothing; its rows are the search's rows bit for bit, and a ladder built
+    by fresh evaluations (the path it replaces) takes the same steps, the same Pareto set
+    and the same four-layer board with the same figures (1e-9 dB, to the cent)."""
+    from stackopt.search.ladder import build_ladder
+    from stackopt.search.problem import Problem
+
+    r = demos[name]
+    pb = r.problem
+    fresh = build_ladder(pb, four=r.ladder.four_layer if r.ladder else None)
+    calls = []
+    real = Problem.evaluate
+    monkeypatch.setattr(Problem, "evaluate",
+                        lambda self, c, model=None: calls.append(len(c)) or real(self, c, model))
+    lad = mitigation_ladder(r)
+    assert calls == []  # nothing solved again
+    key = {tuple(row): i for i, row in enumerate(r.candidates.matrix().tolist())}
+    rows = [key[tuple(row)] for row in lad.steps.matrix().tolist()]
+    assert np.array_equal(lad.evaluation.margin, r.evaluation.margin[rows])
+    assert np.array_equal(lad.evaluation.unit_cost, r.evaluation.unit_cost[rows])
+    assert np.array_equal(lad.steps.matrix(), fresh.steps.matrix())
+    assert lad.kinds == fresh.kinds and lad.changes == fresh.changes
+    assert np.array_equal(lad.pareto.matrix(), fresh.pareto.matrix())
+    for a, b in ((lad.evaluation, fresh.evaluation),
+                 (lad.pareto_evaluation, fresh.pareto_evaluation),
+                 (lad.four_layer_evaluation, fresh.four_layer_evaluation)):
+        if a is None:
+            assert b is None
+            continue
+        np.testing.assert_allclose(a.margin, b.margin, rtol=0, atol=1e-9)
+        np.testing.assert_allclose(a.attenuation, b.attenuation, rtol=0, atol=1e-9)
+        np.testing.assert_allclose(a.unit_cost, b.unit_cost, rtol=0, atol=0.005)
+        assert np.array_equal(a.feasible, b.feasible)
+
+
+def test_known_rows_solve_only_the_unknown_boards_once(demos):
+    """KnownRows reads the known boards and evaluates each unknown one once (a board
+    listed twice is solved once); the answer matches Problem.evaluate row for row."""
+    from stackopt.search.evalrows import KnownRows, take_rows
+
+    r = demos["two"]
+    pb = r.problem
+    known = KnownRows(pb, r.candidates.take(np.arange(0, r.n, 2)),
+                      take_rows(r.evaluation, np.arange(0, r.n, 2)))
+    ask = np.array([1, 0, 3, 1, 2, 5])  # 1 twice; 0 and 2 known
+    ev = known.evaluate(r.candidates.take(ask))
+    assert known.solved == 3  # rows 1, 3, 5
+    direct = pb.evaluate(r.candidates.take(ask))
+    np.testing.assert_allclose(ev.margin, direct.margin, rtol=0, atol=1e-9)
+    np.testing.assert_allclose(ev.unit_cost, direct.unit_cost, rtol=0, atol=0.005)
+    assert np.array_equal(ev.geometry.thickness, direct.geometry.thickness)
+    again = known.evaluate(r.candidates.take(ask))
+    assert known.solved == 3  # the second call solves nothing
+    assert np.array_equal(again.margin, ev.margin)

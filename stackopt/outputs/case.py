@@ -96,24 +96,16 @@ class FourLayerCase:
 
 def _two_layer_blocker(result: Result) -> tuple[tuple[str, ...], tuple[str, ...]]:
     """Why no two-layer board is feasible (what the nearest one breaks) and what would
-    make one feasible, by up to three routes: from every two-layer combination where the
-    ladder enumerates them, else from the search's own two-layer candidates."""
-    from stackopt.search.ladder import (
-        ENUMERATE_LIMIT,
-        nearest_alternatives,
-        two_layer_combinations,
-    )
+    make one feasible, by up to three routes: from the ladder's two-layer pool (every
+    two-layer combination where the ladder enumerates them, else the search's own
+    two-layer candidates; evaluated once, by the ladder)."""
+    from stackopt.search.twolayer import nearest_alternatives
 
     pb = result.problem
-    sp = pb.space
-    size = sum(sp.arrangement_size(a) for a in sp.arrangements if a.n_layers == 2)
-    if size <= ENUMERATE_LIMIT:
-        pool = two_layer_combinations(sp)
-    else:
-        pool = result.candidates.take(np.flatnonzero(result.evaluation.geometry.layers == 2))
-    if not len(pool):
+    lad = result.ladder
+    if lad is None or lad.pool_evaluation is None:
         return (), ()
-    ev = pb.evaluate(pool)
+    ev = lad.pool_evaluation
     near = nearest_alternatives(ev)
     if not near:
         return (), ()

@@ -39,6 +39,7 @@ import numpy as np
 import pandas as pd
 
 from stackopt.model.mitigations import MITIGATIONS
+from stackopt.search.evalrows import KnownRows, take_rows
 from stackopt.search.front import nondominated
 from stackopt.search.problem import Evaluation, Problem
 from stackopt.search.space import Candidates, Space
@@ -104,21 +105,23 @@ def _pick(cost0: float, margin0: float, ev: Evaluation) -> int | None:
     return int(np.argmax(np.where(ok, dm / np.where(ok, dc, 1.0), -np.inf)))
 
 
-def climb(problem: Problem, start: Candidates, max_steps: int = 64
-          ) -> tuple[Candidates, list[str]]:
+def climb(problem: Problem, start: Candidates, max_steps: int = 64,
+          known: KnownRows | None = None) -> tuple[Candidates, list[str]]:
     """The greedy single-change ladder from the one board ``start``.
 
     Returns the boards of every step (start first) and the kind of change of each
-    (``"start"``, ``"vias"``, ``"drill"``, ``"thinner"`` or a mitigation name).
+    (``"start"``, ``"vias"``, ``"drill"``, ``"thinner"`` or a mitigation name). Boards in
+    ``known`` are read from its arrays, not evaluated again.
     """
+    known = known if known is not None else KnownRows(problem)
     path, kinds = [start], ["start"]
-    ev0 = problem.evaluate(start)
+    ev0 = known.evaluate(start)
     cost, margin = float(ev0.unit_cost[0]), float(ev0.margin[0])
     for _ in range(max_steps):
         nb, nk = _neighbours(problem, path[-1])
         if not len(nb):
             break
-        ev = problem.evaluate(nb)  # every neighbour of this step in one batch
+        ev = known.evaluate(nb)  # every neighbour of this step in one batch
         k = _pick(cost, margin, ev)
         if k is None:
             break
@@ -177,6 +180,9 @@ class Ladder:
     four_layer: Candidates | None  # the cheapest four-layer board meeting the requirements
     four_layer_evaluation: Evaluation | None
     four_layer_note: str
+    #: Every two-layer board considered (the start and Pareto pool) and its evaluation.
+    pool: Candidates | None = None
+    pool_evaluation: Evaluation | None = None
 
     @property
     def blocked(self) -> bool:
@@ -287,34 +293,39 @@ def _four_layer(result) -> tuple[int | None, str]:
     return i, "The cheapest four-layer board that meets every requirement."
 
 
-def build_ladder(problem: Problem, pool: Candidates | None = None, *, four=None,
-                 four_note: str = "No four-layer board to compare with.") -> Ladder | None:
+def build_ladder(problem: Problem, pool: Candidates | None = None, *,
+                 four: Candidates | None = None,
+                 four_note: str = "No four-layer board to compare with.",
+                 known: KnownRows | None = None) -> Ladder | None:
     """The ladder of ``problem`` (``None`` without two-layer combinations).
 
     ``pool``: the two-layer boards for the start and the Pareto set (default: every
     combination, see :func:`two_layer_combinations`); ``four``: a one-row
-    :class:`Candidates` of the four-layer board to set the ladder against.
+    :class:`Candidates` of the four-layer board to set the ladder against; ``known``:
+    boards already evaluated (the search's), read instead of evaluated again. Every other
+    board is evaluated once.
     """
+    known = known if known is not None else KnownRows(problem)
     sp = problem.space
     exhaustive = pool is None
     if pool is None:
         pool = two_layer_combinations(sp)
     if not len(pool) or not len(sp.options["core"]):
         return None
-    ev = problem.evaluate(pool)
+    ev = known.evaluate(pool)
     if not ev.feasible.any():  # blocked: no step, only the board nearest to feasible
         k = least_violating(ev)
         assert k is not None
         near = pool.take(np.array([k]))
         par = pool.take(np.zeros(0, dtype=np.int64))
-        four_ev = problem.evaluate(four) if four is not None else None
-        return Ladder(problem, near, problem.evaluate(near), ("blocked",),
-                      (_words(sp, None, near),), par, problem.evaluate(par),
-                      len(pool), exhaustive, four, four_ev, four_note)
+        four_ev = known.evaluate(four) if four is not None else None
+        return Ladder(problem, near, known.evaluate(near), ("blocked",),
+                      (_words(sp, None, near),), par, known.evaluate(par),
+                      len(pool), exhaustive, four, four_ev, four_note, pool, ev)
     i0 = plain_board(problem, pool, ev)
     assert i0 is not None
-    steps, kinds = climb(problem, pool.take(np.array([i0])))
-    ev_s = problem.evaluate(steps)
+    steps, kinds = climb(problem, pool.take(np.array([i0])), known=known)
+    ev_s = known.evaluate(steps)
     end_cost, end_margin = float(ev_s.unit_cost[-1]), float(ev_s.margin[-1])
     tol = 1e-9 * max(1.0, abs(end_cost))
     jump = np.flatnonzero(ev.feasible & (ev.unit_cost >= end_cost - tol)
@@ -324,20 +335,21 @@ def build_ladder(problem: Problem, pool: Candidates | None = None, *, four=None,
                                  -ev.margin[jump]))[0]])
         steps = Candidates.concat([steps, pool.take(np.array([j]))])
         kinds = [*kinds, "combination"]
-        ev_s = problem.evaluate(steps)
+        ev_s = known.evaluate(steps)
     one = [steps.take(np.array([k])) for k in range(len(steps))]  # a handful of steps
     changes = tuple(_words(sp, None if k == 0 else one[k - 1], one[k])
                     for k in range(len(one)))
     par = pool.take(_pareto(problem, pool, ev))
-    four_ev = problem.evaluate(four) if four is not None else None
-    return Ladder(problem, steps, ev_s, tuple(kinds), changes, par, problem.evaluate(par),
-                  len(pool), exhaustive, four, four_ev, four_note)
+    four_ev = known.evaluate(four) if four is not None else None
+    return Ladder(problem, steps, ev_s, tuple(kinds), changes, par, known.evaluate(par),
+                  len(pool), exhaustive, four, four_ev, four_note, pool, ev)
 
 
 def mitigation_ladder(result) -> Ladder | None:
     """The mitigation ladder of a search :class:`~stackopt.search.results.Result`, or
     ``None`` when its design space has no two-layer boards. Computed afresh: use
-    ``result.ladder``, which computes it once per result."""
+    ``result.ladder``, which computes it once per result. Boards the search evaluated are
+    read from its arrays; only the others are evaluated."""
     pb = result.problem
     two = [a for a in pb.space.arrangements if a.n_layers == 2]
     lad = None
@@ -349,5 +361,10 @@ def mitigation_ladder(result) -> Ladder | None:
                 result.evaluation.geometry.layers == 2))
         i4, note = _four_layer(result)
         four = result.candidates.take(np.array([i4])) if i4 is not None else None
-        lad = build_ladder(pb, pool, four=four, four_note=note)
+        # the search's two-layer boards and the four-layer one are read, not solved again
+        rows = np.flatnonzero(result.evaluation.geometry.layers == 2)
+        rows = np.r_[rows, i4] if i4 is not None else rows
+        known = KnownRows(pb, result.candidates.take(rows),
+                          take_rows(result.evaluation, rows))
+        lad = build_ladder(pb, pool, four=four, four_note=note, known=known)
     return lad
