@@ -16,8 +16,15 @@ import numpy as np
 import pytest
 from outputs_support import ROOT, run
 
+from stackopt.analyses.prepregs import prepreg_rows, top_options
 from stackopt.outputs.case import four_layer_case
-from stackopt.outputs.prepregs import prepreg_rows, top_options
+from stackopt.outputs.prepregs import (
+    prepreg_sentence,
+    prepreg_summary,
+    prepreg_table,
+    unbuildable,
+    why_none,
+)
 from stackopt.outputs.reasons import SENTENCES, family
 from stackopt.outputs.report import report_document, report_markdown
 
@@ -151,8 +158,43 @@ def test_prepreg_table_has_one_row_per_stocked_top_dielectric():
             names = sp.slot_names(res.candidates)[:, 0]
             use = np.flatnonzero((names == r.name) & res.feasible)
             assert ev.unit_cost[r.cheapest] == pytest.approx(ev.unit_cost[use].min())
+            # the most robust board with it: the best worst-over-models margin
+            assert res.robust_margin[r.most_robust] == res.robust_margin[use].max()
         else:
-            assert r.why
+            assert why_none(res, r) and r.nearest is not None
+
+
+def test_prepreg_rows_carry_robust_margin_and_yield():
+    # every row's boards were built in the Monte Carlo (one batch with the front and the
+    # picks); the yield of a board is the share of its builds meeting every requirement
+    # (checked against the per-build margins the robustness analysis keeps for the picks)
+    from stackopt.analyses.prepregs import row_boards
+
+    res = run()
+    rows = prepreg_rows(res)
+    idx = row_boards(rows)
+    assert len(idx) and np.all(np.isfinite(res.yields[idx]))
+    for i, m in res.build_margins.items():
+        assert res.yields[i] == pytest.approx(np.mean(m >= 0.0))
+    head, table = prepreg_table(res, rows)
+    assert "Yield" in head and any("Robust" in h for h in head)
+    k = head.index("Yield")
+    built = [r for r in rows if r.cheapest is not None]  # the others listed apart
+    assert len(unbuildable(res, rows)) == len(rows) - len(built)
+    for r, cells in zip(built, table, strict=True):
+        assert cells[0] == r.name and cells[k] == f"{100 * res.yields[r.cheapest]:.1f} %"
+    summary = {p["top_dielectric"]: p for p in prepreg_summary(res)}
+    assert set(summary) == {r.name for r in rows}
+    for r in rows:
+        rec = summary[r.name]["cheapest"]
+        if r.cheapest is None:
+            assert rec is None and summary[r.name]["why_none"]
+            continue
+        assert rec["id"] == res.ids[r.cheapest]
+        assert rec["yield"] == pytest.approx(res.yields[r.cheapest])
+        assert rec["robust_margin_dB"] == pytest.approx(res.robust_margin[r.cheapest])
+    s = prepreg_sentence(res, rows)  # names the cheapest that meets and the most robust
+    assert "cheapest board that meets every requirement" in s and "most robust" in s
 
 
 def test_check_prints_every_element_with_its_unit(capsys):
@@ -238,3 +280,27 @@ def test_eval_prints_worst_path_and_largest_coupling_not_a_sum(tmp_path, capsys)
     # path through the thick core): far larger than on the four-layer board
     two, four = got["cheapest_two_layer"], got["cheapest_meeting_requirements"]
     assert two["largest_ground_coupling_H"] > 20 * four["largest_ground_coupling_H"]
+
+
+def test_one_shared_ground_connection_has_no_coupling_figure():
+    # consumer_emi grounds both capacitors through one connection: there is no pair of
+    # connections, so no coupling figure (not a misleading 0 pH)
+    from stackopt.outputs.facts import ground_figures
+
+    res = run(ROOT / "scenarios" / "consumer_emi.yaml")
+    assert len(res.problem.compiled.conn_names) == 1
+    own, mutual = ground_figures(res, [res.picks["cheapest_two_layer"]])
+    assert own[0] > 0 and np.isnan(mutual[0])
+    text = report_markdown(res)
+    assert "none (one shared connection)" in text and "| 0 pH" not in text
+
+
+def test_without_two_layers_the_headline_says_why_fewer_layers_fail():
+    # lines_mixed searches 4 and 6 layers; the stripline 'clk50' needs an inner layer
+    # between two planes, which no 4-layer arrangement offers: the headline says so
+    res = run(ROOT / "scenarios" / "lines_mixed.yaml")
+    four = res.evaluation.geometry.layers == 4
+    assert four.any() and not (four & res.feasible).any()
+    head = next(b[1] for b in report_document(res) if b[0] == "answer")
+    assert "no claim about them" in head and "No 4-layer board can be built" in head
+    assert "clk50" in head

@@ -73,8 +73,41 @@ def test_prepreg_chart_costs_tell_the_options_apart():
     res = run()
     fig = plot_prepregs(res)
     texts = [t.get_text().split(" (")[0] for t in fig.axes[1].texts]
-    from stackopt.outputs.prepregs import prepreg_rows
+    from stackopt.analyses.prepregs import prepreg_rows
 
     rows = [r for r in prepreg_rows(res) if r.cheapest is not None]
     costs = {round(float(res.evaluation.unit_cost[r.cheapest]), 9) for r in rows}
     assert len(set(texts)) == len(costs)  # distinct costs never print alike
+
+
+@pytest.mark.parametrize("name", ["harmonic_lowpass", "consumer_emi", "two_layer_only",
+                                  "lines_mixed"])
+def test_requirement_labels_overlap_no_curve_legend_or_label(name):
+    # checked with matplotlib's own geometry (Path.intersects_bbox on each drawn line in
+    # display coordinates), not with the placement code's sampling
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    fig = plot_response(run(ROOT / "scenarios" / f"{name}.yaml"))
+    canvas = FigureCanvasAgg(fig)
+    canvas.draw()
+    renderer = canvas.get_renderer()
+    ax = fig.axes[0]
+    labels = [t.get_window_extent(renderer) for t in ax.texts if "≥" in t.get_text()]
+    assert len(labels) == len(run(ROOT / "scenarios" / f"{name}.yaml").problem.scenario
+                              .requirements)
+    legend = ax.get_legend().get_window_extent(renderer)
+    for k, box in enumerate(labels):
+        for line in ax.get_lines():
+            path = line.get_transform().transform_path(line.get_path())
+            assert not path.intersects_bbox(box, filled=False), line.get_label()
+        assert not box.overlaps(legend)
+        assert not any(box.overlaps(other) for other in labels[k + 1:])
+
+
+def test_front_keeps_the_requirement_line_in_view():
+    # a space where nothing meets (every margin below 0 dB) still shows the 0 dB line, so
+    # the distance to the requirement is visible
+    res = run(ROOT / "scenarios" / "two_layer_only.yaml")
+    assert res.evaluation.margin[res.feasible].max() < 0
+    lo, hi = plot_front(res).axes[0].get_ylim()
+    assert lo < 0.0 < hi

@@ -59,3 +59,10 @@ def test_demo_reports_the_band_the_signal_uses():
     rec = s["picks"]["cheapest_meeting_requirements"]
     assert 0.0 < rec["insertion_loss_dB"] < 1.0 and rec["return_loss_dB"] > 15.0
     assert passband_text(res) == "863 MHz to 870 MHz"
+
+
+def test_check_echoes_the_passband(capsys):
+    from stackopt.cli.main import main
+
+    assert main(["check", str(ROOT / "scenarios" / "harmonic_lowpass.yaml")]) == 0
+    assert "passband  863 MHz to 870 MHz\n" in capsys.readouterr().out

@@ -8,12 +8,13 @@ one per candidate.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import replace
 
 import numpy as np
 
 from stackopt.analyses.limits import pick_limits
+from stackopt.analyses.prepregs import prepreg_rows, row_boards
 from stackopt.analyses.tolerances import build_draws, monte_carlo, yield_key
 from stackopt.circuit.metrics import attenuation_db
 from stackopt.physics.inductance import VIA_MODELS
@@ -49,11 +50,18 @@ def margins_by_model(problem: Problem, g: Geometry, models: Iterable[str],
             for m in models}
 
 
-class _Sampler:
-    """Monte Carlo yields and impedance ranges, filled in batches of candidates."""
+Progress = Callable[[int, int], None]
 
-    def __init__(self, result: Result) -> None:
+
+class _Sampler:
+    """Monte Carlo yields and impedance ranges, filled in batches of candidates;
+    ``progress(done, total)`` counts builds (candidate phenotypes x samples) over every
+    batch so far (the total grows when a batch is added)."""
+
+    def __init__(self, result: Result, progress: Progress | None = None) -> None:
         self.result = result
+        self.progress = progress
+        self.done = 0
         self.problem = result.problem
         self.draws = build_draws(self.problem)
         n, lines = result.n, len(self.problem.scenario.lines)
@@ -69,8 +77,15 @@ class _Sampler:
             return
         r = self.result
         g = self.problem.space.geometry(r.candidates.take(idx))
+        base, report = self.done, self.progress
+
+        def tick(done: int, total: int) -> None:  # this batch after the earlier ones
+            self.done = base + done
+            if report is not None:
+                report(base + done, base + total)
+
         mc = monte_carlo(self.problem, g, r.evaluation.widths[idx],
-                         self.problem.scenario.search.via_model, self.draws)
+                         self.problem.scenario.search.via_model, self.draws, progress=tick)
         self.yields[idx] = mc.yields
         self.zrange[idx, :, 0] = mc.impedance_min
         self.zrange[idx, :, 1] = mc.impedance_max
@@ -100,13 +115,15 @@ def _cheapest_robust(r: Result, sampler: _Sampler) -> int | None:
     return None
 
 
-def analyse(result: Result) -> Result:
+def analyse(result: Result, progress: Progress | None = None) -> Result:
     """The search's result with robust margins (every candidate), the model spread and
-    Monte Carlo yields (the front and the picks), the ``cheapest_robust`` pick and what
-    limits each pick's circuit.
+    Monte Carlo yields (the front, the picks and the boards of the prepreg answer,
+    :mod:`stackopt.analyses.prepregs`), the ``cheapest_robust`` pick and what limits
+    each pick's circuit.
 
     Cost: one more solve per phenotype for each listed model other than the ranking
-    one; one batch of ``samples`` builds per sampled candidate.
+    one; one batch of ``samples`` builds per sampled candidate. ``progress(done,
+    total)`` is called as the Monte Carlo builds are solved (a chunk at a time).
     """
     problem, ev = result.problem, result.evaluation
     sc = problem.scenario
@@ -114,11 +131,12 @@ def analyse(result: Result) -> Result:
     robust = margins_by_model(problem, ev.geometry, sc.search.robustness.models,
                               known={rank: ev.margin})
     r = replace(result, robust=robust)
-    sampler = _Sampler(r)
+    sampler = _Sampler(r, progress)
     keep = r.on_front.copy()
     for v in r.picks.values():
         if v is not None:
             keep[v] = True
+    keep[row_boards(prepreg_rows(r))] = True  # the same batch: each row's boards
     sampler.sample(np.flatnonzero(keep))
     pick = _cheapest_robust(r, sampler)
     r = replace(r, yields=sampler.yields, impedance_range=sampler.zrange, robust_pick=pick)

@@ -40,6 +40,7 @@ on the perturbed cross-section at the etched width.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -242,9 +243,10 @@ def built(problem: Problem, g: Geometry, d: Draws) -> tuple[Geometry, np.ndarray
     return gs, k
 
 
-def _margins(problem: Problem, gs: Geometry, k: np.ndarray, model: str, d: Draws
-             ) -> np.ndarray:
-    """Margin (P * S,) of every build, one solve per distinct (circuit input, sample)."""
+def _margins(problem: Problem, gs: Geometry, k: np.ndarray, model: str, d: Draws,
+             progress: Callable[[int, int], None] | None = None) -> np.ndarray:
+    """Margin (P * S,) of every build, one solve per distinct (circuit input, sample);
+    ``progress(done, total)`` after every chunk, counting those solves."""
     gb = problem.ground_batch(gs, model)
     first, inv = unique_rows(np.column_stack([batch_key(gb), k]))
     gb, k = gb.take(first), k[first]
@@ -259,12 +261,15 @@ def _margins(problem: Problem, gs: Geometry, k: np.ndarray, model: str, d: Draws
         yl = line_admittance(compiled, sub, freqs) if len(compiled.line_length) else None
         sp = mna_s_varied(compiled, freqs, lg, ze[k[sl]], yl)
         out[sl] = problem.attenuation(attenuation_db(sp))[1]
+        if progress is not None:
+            progress(min(i0 + step, len(first)), len(first))
     out = np.nan_to_num(out, nan=-999.0, posinf=999.0, neginf=-999.0)
     return out[inv]
 
 
 def monte_carlo(problem: Problem, g: Geometry, widths: np.ndarray, model: str,
-                draws: Draws) -> MonteCarlo:
+                draws: Draws, progress: Callable[[int, int], None] | None = None
+                ) -> MonteCarlo:
     """Every candidate of ``g`` (P) built ``draws.n`` times.
 
     Parameters
@@ -279,11 +284,14 @@ def monte_carlo(problem: Problem, g: Geometry, widths: np.ndarray, model: str,
         Via model of the ranking (the yield is under the model the search ranks by).
     draws : Draws
         From :func:`draw` / :func:`build_draws`.
+    progress : callable, optional
+        ``progress(done, total)`` after every chunk of builds solved (the hook of
+        :func:`stackopt.optimize`; the library never prints).
     """
     p, s = len(g), draws.n
     gs, k = built(problem, g, draws)
     rep = np.repeat(np.arange(p), s)
     w = np.maximum(widths[rep] + draws.etch[k, None], _MIN_WIDTH)  # NaN stays NaN
     z = problem.line_impedances(gs, w).reshape(p, s, -1)
-    return MonteCarlo(margin=_margins(problem, gs, k, model, draws).reshape(p, s),
+    return MonteCarlo(margin=_margins(problem, gs, k, model, draws, progress).reshape(p, s),
                       impedance_min=z.min(axis=1), impedance_max=z.max(axis=1))

@@ -354,19 +354,20 @@ def worst_path_and_coupling(compiled: CompiledCircuit, batch: GroundBatch,
                             model: str = "goldfarb-pucel") -> tuple[np.ndarray, np.ndarray]:
     """What sets a filter's stopband among the ground connections: (the largest self
     inductance of one grounded element's path, via + trace + mounted loop (N,); the
-    largest mutual inductance between two elements on different connections (N,)) [H],
-    0 where the circuit has no such path or pair. Both are entries of
-    :func:`ground_inductance_matrix`; their sum over connections would hide the coupling
-    that limits a two-layer board."""
+    largest mutual inductance between two elements on different connections (N,)) [H];
+    a path of 0 without grounded elements, a coupling of NaN with fewer than two
+    connections (there is no pair: a shared connection's coupling is its own path). Both
+    are entries of :func:`ground_inductance_matrix`; their sum over connections would
+    hide the coupling that limits a two-layer board."""
     lmat = ground_inductance_matrix(compiled, batch, model)
     n, g = lmat.shape[0], lmat.shape[-1]
     if g == 0:
-        return np.zeros(n), np.zeros(n)
+        return np.zeros(n), np.full(n, np.nan)
     own = np.diagonal(lmat, axis1=-2, axis2=-1).max(axis=-1)
     conn = np.asarray(compiled.terminal_conn)
     other = conn[:, None] != conn[None, :]
     mutual = np.where(other[None], np.abs(lmat), 0.0).max(axis=(-2, -1))
-    return own, mutual
+    return own, np.where(other.any(), mutual, np.nan)
 
 
 def ground_breakdown(compiled: CompiledCircuit, batch: GroundBatch,

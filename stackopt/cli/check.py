@@ -63,6 +63,11 @@ def run(args: argparse.Namespace) -> int:
         rows.append([r.label, where, f">= {r.min_attenuation:g} dB"])
     if rows:
         say(table(rows, ["requirement", "at", "attenuation"]))
+    if sc.passband_words is not None:  # where the report measures the passband losses
+        from stackopt.model.scenario import DESIGN_BAND_NOTE
+
+        say(f"passband  {sc.passband_words}"
+            + ("" if sc.passband is not None else f" ({DESIGN_BAND_NOTE})"))
     for ln in sc.lines:
         mw = f", at most {fq(ln.max_width, 'length')} wide" if ln.max_width else ""
         what = (f"{fq(ln.target, 'impedance')} differential, spacing "

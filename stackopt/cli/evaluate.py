@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import math
 from typing import Any
 
 from stackopt.cli.common import load_inputs, table
@@ -62,7 +63,8 @@ def run(args: argparse.Namespace) -> int:
         **{k: m.pop(k) for k in ("layers", "thickness_m", "ground_plane_depth_m",
                                  "ground_inductance_H")},
         "worst_ground_path_H": float(path[0]),
-        "largest_ground_coupling_H": float(coupling[0]),
+        "largest_ground_coupling_H": (float(coupling[0]) if math.isfinite(coupling[0])
+                                      else None),
         "grounds": grounds,
         "mutual_guard_active": guard < 1.0,
         "placement_notes": list(problem.placed[1]),
@@ -85,8 +87,11 @@ def run(args: argparse.Namespace) -> int:
           + (f", calibrated x{sc.search.via_scale(sc.search.via_model):.3g} by "
              f"{out['calibration']['file']}" if out["calibration"] else "") + "): worst "
         f"path {fq(out['worst_ground_path_H'], 'inductance')} (one element's via, pad "
-        "trace and mounted loop), largest coupling between two connections "
-        f"{fq(out['largest_ground_coupling_H'], 'inductance')}")
+        "trace and mounted loop), "
+        + ("one shared connection (no pair to couple)"
+           if out["largest_ground_coupling_H"] is None else
+           "largest coupling between two connections "
+           f"{fq(out['largest_ground_coupling_H'], 'inductance')}"))
     if grounds:
         say(table([[r["name"]] + [fq(r[k], "inductance") for k in
                                   ("via_H", "trace_H", "mount_H", "total_H")]

@@ -57,7 +57,7 @@ def register(sub: argparse._SubParsersAction) -> None:
 
 def _case_line(result) -> str:
     """The four-layer case in one or two console lines."""
-    from stackopt.outputs.case import four_layer_case
+    from stackopt.outputs.case import fewer_layers_words, four_layer_case
 
     c = four_layer_case(result)
     cur = result.problem.table.currency
@@ -71,12 +71,15 @@ def _case_line(result) -> str:
                 f"({money(c.d_lot, cur, 0)} per lot) more than the cheapest two-layer board "
                 f"that can be built ({ids[c.two]}) and buys {gains}{per}")
     if c.status == "no_two_layer_in_space":
-        return "  the design space has no two-layer boards: no claim about them"
+        fewer = (fewer_layers_words(result, int(result.evaluation.geometry.layers[c.multi]))
+                 if c.multi is not None else "")
+        return ("  the design space has no two-layer boards: no claim about them"
+                + (f"\n  {fewer}" if fewer else ""))
     if c.status == "no_feasible_two_layer":
         return "  " + c.blocked_words()
     if c.status == "two_layer_meets":
         return "  a two-layer board meets every requirement"
-    return "  nothing meets every requirement"
+    return "  nothing meets every requirement (the closest boards are listed below)"
 
 
 def run(args: argparse.Namespace) -> int:
@@ -110,12 +113,19 @@ def run(args: argparse.Namespace) -> int:
     quantities = args.quantities or inp.scenario.board.quantities
     memo = ResponseMemo() if quantities else None
     bar = Progress("searching", not args.quiet)
+    builds = Progress("Monte Carlo of the builds", not args.quiet, unit="build")
+
+    def monte_carlo(done: int, total: int) -> None:  # the search is over: one bar at a time
+        bar.close()
+        builds(done, total)
+
     try:
         pause_point("search")
         result = stackopt.optimize(inp.scenario, inp.table, seed=args.seed,
                                    method=args.method, budget=args.budget, progress=bar,
-                                   memo=memo)
+                                   monte_carlo_progress=monte_carlo, memo=memo)
         bar.close()
+        builds.close()
         sweep = None
         if quantities:
             sweep = quantity_sweep(inp.scenario, inp.table, quantities, seed=args.seed,
@@ -130,6 +140,7 @@ def run(args: argparse.Namespace) -> int:
         raise exc.located(file=inp.scenario_path) from None
     except Interrupted as exc:
         bar.close()
+        builds.close()
         if exc.out is None:
             exc.out = out
         raise
@@ -154,7 +165,8 @@ def default_out(scenario_name: str, fab: str | None) -> Path:
 def say_result(result, say) -> None:
     """The search in a few lines: method and counts, the picks, the four-layer case, the
     prepreg answer, what is missing."""
-    from stackopt.outputs.prepregs import prepreg_rows, prepreg_sentence, prepreg_table
+    from stackopt.analyses.prepregs import prepreg_rows
+    from stackopt.outputs.prepregs import prepreg_sentence, prepreg_table
     from stackopt.outputs.reasons import because, sentence
 
     cur = result.problem.table.currency

@@ -21,10 +21,14 @@ class Progress:
         What is counted, shown before the bar ("searching", "Monte Carlo").
     enabled : bool
         False for ``--quiet``; a stderr that is not a terminal disables it too.
+    unit : str
+        What one step is ("eval", "build").
     """
 
-    def __init__(self, what: str, enabled: bool = True, stream: Any = None) -> None:
+    def __init__(self, what: str, enabled: bool = True, stream: Any = None,
+                 unit: str = "eval") -> None:
         self.what = what
+        self.unit = unit
         self.stream = sys.stderr if stream is None else stream
         isatty = getattr(self.stream, "isatty", None)
         self.enabled = bool(enabled and isatty is not None and isatty())
@@ -37,7 +41,7 @@ class Progress:
         if self._bar is None:
             from tqdm import tqdm  # lazy: only an interactive run pays for the import
 
-            self._bar = tqdm(total=total, desc=f"  {self.what}", unit="eval",
+            self._bar = tqdm(total=total, desc=f"  {self.what}", unit=self.unit,
                              file=self.stream, leave=False, dynamic_ncols=True)
         self._bar.total = total
         self._bar.update(max(done - self._bar.n, 0))

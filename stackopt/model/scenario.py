@@ -217,6 +217,11 @@ class SolderMask(BaseModel):
     er: float = Field(3.5, ge=1.0, le=20.0, description="relative permittivity")
 
 
+#: Said beside a passband taken from a generated filter's cutoff (not stated).
+DESIGN_BAND_NOTE = ("the generated filter's design band; state 'passband' for the band the "
+                    "signal uses")
+
+
 class Scenario(BaseModel):
     """Everything the user states about the job (no prices)."""
 
@@ -283,6 +288,14 @@ class Scenario(BaseModel):
         if f.response == "lowpass":
             return (f.cutoff / 100.0, f.cutoff)
         return (f.cutoff, 3.0 * f.cutoff)
+
+    @property
+    def passband_words(self) -> str | None:
+        """:attr:`passband_hz` in words, ``"863 MHz to 870 MHz"`` (the edges exact);
+        ``None`` without a passband. Where ``passband`` is not stated, say
+        :data:`DESIGN_BAND_NOTE` beside it."""
+        band = self.passband_hz
+        return None if band is None else f"{band[0] / 1e6:.6g} MHz to {band[1] / 1e6:.6g} MHz"
 
     @property
     def frequencies(self) -> tuple[float, ...]:

@@ -59,6 +59,7 @@ def render_all(result: Result, extra_summary: dict | None = None,
     from stackopt.outputs.plots import figure_bytes, plot_front, plot_response
     from stackopt.outputs.plots_ladder import plot_mitigations
     from stackopt.outputs.plots_stackup import plot_costs, plot_prepregs, plot_stackups
+    from stackopt.outputs.prepregs import prepreg_summary
     from stackopt.outputs.report import IMAGE_FILES, report_html, report_markdown
 
     ladder = result.ladder
@@ -66,6 +67,7 @@ def render_all(result: Result, extra_summary: dict | None = None,
              "ideal_ground": ideal_ground(result.problem).to_summary(),
              "four_layer_case": four_layer_case(result).to_summary(result),
              "passband": passband_summary(result),
+             "prepregs": prepreg_summary(result),
              "mitigation_ladder": ladder.to_summary() if ladder is not None else None}
     if sweep is not None:
         from stackopt.outputs.sweep import plot_quantities, sweep_summary

@@ -16,13 +16,13 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from stackopt.outputs.facts import selected_index
+from stackopt.outputs.facts import money, selected_index, shortfalls
 from stackopt.outputs.reasons import because, would_work_if
 
 if TYPE_CHECKING:
     from stackopt.search.results import Result
 
-__all__ = ["FourLayerCase", "four_layer_case", "STATUSES"]
+__all__ = ["FourLayerCase", "four_layer_case", "fewer_layers_words", "STATUSES"]
 
 #: What the case can say: compared (a multilayer board is recommended and a two-layer
 #: board can be built), two_layer_meets (a two-layer board is recommended),
@@ -138,3 +138,31 @@ def four_layer_case(result: Result) -> FourLayerCase:
                          float(ev.unit_cost[multi] - ev.unit_cost[two]),
                          float(ev.lot_cost[multi] - ev.lot_cost[two]),
                          float(ev.margin[multi] - ev.margin[two]), d_att)
+
+
+def fewer_layers_words(result: Result, n: int) -> str:
+    """For every layer count of the space below ``n`` (when the space has no two-layer
+    boards, what the recommendation is set against): the cheapest board with it that can
+    be built and what it misses, or why none can be built (the nearest: fewest broken
+    constraints, then the smallest total violation). Empty when there is no such count."""
+    ev, cur = result.evaluation, result.problem.table.currency
+    text = []
+    for k in sorted(set(result.problem.space.layer_counts)):  # a few layer counts
+        idx = np.flatnonzero(ev.geometry.layers == k)
+        if k >= n or not len(idx):
+            continue
+        ok = idx[result.feasible[idx]]
+        if len(ok):
+            i = int(ok[np.lexsort((-ev.margin[ok], ev.unit_cost[ok]))[0]])
+            fails = [f"{lab} by {-m:.1f} dB" for lab, _a, _r, m in shortfalls(result, i)
+                     if m < 0]
+            text.append(f"The cheapest {k}-layer board that can be built, {result.ids[i]} "
+                        f"at {money(ev.unit_cost[i], cur)}, "
+                        + ("misses " + ", ".join(fails) if fails
+                           else "meets every requirement") + ".")
+        else:
+            v = np.stack([ev.violations[c][idx] for c in ev.violations])
+            i = int(idx[np.lexsort((v.sum(axis=0), (v > 0).sum(axis=0)))[0]])
+            text.append(f"No {k}-layer board can be built (the nearest, {result.ids[i]}: "
+                        f"{'; '.join(because(result.problem, ev, i))}).")
+    return " ".join(text)

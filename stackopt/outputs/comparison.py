@@ -220,7 +220,8 @@ def plot_comparison(comp: FabComparison) -> Figure:
                                                    if conv else ")"))
         ax.set_xlim(0, ax.get_xlim()[1] * 1.35)
         if len(ranking) > 1:
-            ax.set_title(f"Prices in {cur}: not ranked against the other panel(s), no "
+            other = "panel" if len(ranking) == 2 else "panels"
+            ax.set_title(f"Prices in {cur}: not ranked against the other {other}, no "
                          "exchange rate given", fontsize=8)
     fig.legend(loc="outside lower center", ncols=len(names))
     fig.suptitle(plain(f"Fab against fab — {comp.scenario.name}, "

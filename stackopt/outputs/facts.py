@@ -152,15 +152,14 @@ def passband_losses(result: Result, idx: Sequence[int] | np.ndarray
 
 
 def passband_text(result: Result) -> str:
-    """The passband in words, e.g. "863 MHz to 870 MHz", and where it comes from."""
+    """The passband in words, e.g. "863 MHz to 870 MHz", and, when the scenario does not
+    state it, that it is the generated filter's design band."""
+    from stackopt.model.scenario import DESIGN_BAND_NOTE
+
     sc = result.problem.scenario
-    band_hz = sc.passband_hz
-    assert band_hz is not None  # the caller shows a passband only where there is one
-    lo, hi = band_hz
-    band = f"{lo / 1e6:.6g} MHz to {hi / 1e6:.6g} MHz"  # exact: band edges are stated
-    return band if sc.passband is not None else (
-        band + " (the generated filter's design band; state 'passband' for the band the "
-        "signal uses)")
+    words = sc.passband_words
+    assert words is not None  # the caller shows a passband only where there is one
+    return words if sc.passband is not None else f"{words} ({DESIGN_BAND_NOTE})"
 
 
 def ground_figures(result: Result, idx: Sequence[int] | np.ndarray

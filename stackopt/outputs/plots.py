@@ -10,7 +10,7 @@ from __future__ import annotations
 import functools
 import io
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import matplotlib as mpl
 import numpy as np
@@ -164,6 +164,8 @@ def plot_front(result: Result) -> Figure:
     ok = np.isfinite(y) & feas if feas.any() else np.isfinite(y)
     if ok.any():  # keep the -999 dB stand-in of failed evaluations off the scale
         lo, hi = float(np.min(y[ok])), float(np.max(y[ok]))
+        if result.problem.scenario.requirements:  # the requirement line stays in view
+            lo, hi = min(lo, 0.0), max(hi, 0.0)
         pad = 0.08 * max(hi - lo, 1.0)
         ax.set_ylim(lo - pad, hi + 2.5 * pad)  # headroom for the pick numbers
         ylo, yhi = ax.get_ylim()
@@ -182,10 +184,12 @@ def plot_front(result: Result) -> Figure:
     return fig
 
 
-def _requirement_marks(ax, result: Result, ylo: float) -> None:
+def _requirement_marks(ax, result: Result, ylo: float) -> list[tuple[str, tuple[float, float]]]:
     """Each requirement where it applies: a band as a shaded band with its limit line; a
     single frequency as a marker at the limit with a short bar up to 0 dB (the region a
-    curve must stay below), not as a band it does not have."""
+    curve must stay below), not as a band it does not have. Returns the labels to place
+    (text, anchor) once the curves and the legend are drawn (:func:`place_labels`)."""
+    labels = []
     for k, r in enumerate(result.problem.scenario.requirements):
         top = -r.min_attenuation
         first = k == 0
@@ -204,9 +208,77 @@ def _requirement_marks(ax, result: Result, ylo: float) -> None:
                             label="requirement band: stay below its line" if first else None)
             ax.plot([lo, hi], [top, top], color="#d62728", lw=2.0, zorder=5)
             where = (lo + hi) / 2
-        ax.annotate(f"{plain(r.label)}\n≥ {r.min_attenuation:g} dB", (where, top),
-                    xytext=(0, -10), textcoords="offset points", ha="center", va="top",
-                    fontsize=8, color="#a01010", zorder=6)
+        labels.append((f"{plain(r.label)}\n≥ {r.min_attenuation:g} dB", (where, top)))
+    return labels
+
+
+#: Offsets (points) tried for a requirement's label around its mark, nearest first.
+_LABEL_SPOTS = ((0, -10, "center", "top"), (8, -4, "left", "top"), (-8, -4, "right", "top"),
+                (8, 4, "left", "bottom"), (-8, 4, "right", "bottom"),
+                (0, -34, "center", "top"), (14, -24, "left", "top"), (-14, -24, "right", "top"))
+
+
+def _curve_points(ax) -> np.ndarray:
+    """Display coordinates of every drawn line (curves and requirement marks), densified
+    (about a pixel apart) so that a box lying across a segment holds some of it (M, 2)."""
+    pts = []
+    for line in ax.get_lines():  # a handful of curves and marks
+        xy = ax.transData.transform(np.asarray(line.get_xydata(), dtype=float))
+        xy = xy[np.all(np.isfinite(xy), axis=1)]
+        if len(xy) < 2:
+            pts.append(xy)
+            continue
+        seg = np.hypot(*np.diff(xy, axis=0).T)
+        n = np.maximum(np.ceil(seg).astype(int), 1)
+        t = np.arange(n.sum()) - np.repeat(np.cumsum(n) - n, n)  # step within a segment
+        t = t / np.repeat(n, n)
+        i = np.repeat(np.arange(len(seg)), n)
+        pts.append(xy[i] + t[:, None] * (xy[i + 1] - xy[i]))
+    return np.concatenate(pts) if pts else np.zeros((0, 2))
+
+
+def _inside(pts: np.ndarray, box) -> int:
+    """How many points lie in a display-coordinate box (a matplotlib Bbox)."""
+    return int(np.sum((pts[:, 0] >= box.x0) & (pts[:, 0] <= box.x1)
+                      & (pts[:, 1] >= box.y0) & (pts[:, 1] <= box.y1)))
+
+
+def place_labels(ax, labels) -> list:
+    """Annotate each ``(text, (x, y), color)`` at the first offset of :data:`_LABEL_SPOTS`
+    whose box crosses the fewest curve points and overlaps no placed label nor the
+    legend and stays inside the axes; returns the annotations."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    fig = ax.figure
+    canvas = fig.canvas if hasattr(fig.canvas, "get_renderer") else FigureCanvasAgg(fig)
+    fig.draw_without_rendering()  # the layout and the legend's place, as they will be
+    renderer = canvas.get_renderer()
+    pts = _curve_points(ax)
+    taken = []
+    legend = ax.get_legend()
+    if legend is not None:
+        taken.append(legend.get_window_extent(renderer))
+    frame = ax.get_window_extent(renderer)
+    out = []
+    for text, xy, color in labels:  # a few requirements
+        tried: list[tuple[int, int, Any, Any]] = []
+        for dx, dy, ha, va in _LABEL_SPOTS:
+            a = ax.annotate(text, xy, xytext=(dx, dy), textcoords="offset points", ha=ha,
+                            va=va, fontsize=8, color=color, zorder=6)
+            box = a.get_window_extent(renderer)
+            cost = (_inside(pts, box) + 1000 * sum(box.overlaps(t) for t in taken)
+                    + 1000 * (not frame.contains(box.x0, box.y0)
+                              or not frame.contains(box.x1, box.y1)))
+            tried.append((cost, len(tried), a, box))
+            if cost == 0:
+                break
+        _, _, best, box = min(tried, key=lambda t: t[:2])
+        for t in tried:
+            if t[2] is not best:
+                t[2].remove()
+        taken.append(box)
+        out.append(best)
+    return out
 
 
 @styled
@@ -233,10 +305,11 @@ def plot_response(result: Result) -> Figure:
     floor = min(float(np.min(ideal)), float(np.min(s21)))
     ylo = max(floor - 5.0, -1.6 * max(req, default=60.0), -150.0)
     ax.set_ylim(ylo, 5.0)
-    _requirement_marks(ax, result, ylo)
+    labels = _requirement_marks(ax, result, ylo)
     ax.set_xlabel("Frequency (GHz)")
     ax.set_ylabel("|S21| (dB)")
     model = result.problem.scenario.search.via_model
     ax.set_title(f"Transmission of the picks (via model: {model})")
     ax.legend(loc="best")
+    place_labels(ax, [(t, xy, "#a01010") for t, xy in labels])
     return fig

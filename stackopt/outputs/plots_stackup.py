@@ -146,11 +146,12 @@ def plot_costs(result: Result) -> Figure:
 @styled
 def plot_prepregs(result: Result) -> Figure:
     """The dielectric under the top copper, one row per stocked option that gives a board
-    that can be built (:func:`stackopt.outputs.prepregs.prepreg_rows`): the margin of the
-    cheapest board using it (left, best margin with it as a tick) and its cost per board
-    (right), with enough decimals to tell the options apart."""
+    that can be built (:func:`stackopt.analyses.prepregs.prepreg_rows`): the margin of the
+    cheapest board using it (left; a tick at the most robust board's worst margin over the
+    via models) and its cost per board (right), with enough decimals to tell the options
+    apart."""
+    from stackopt.analyses.prepregs import prepreg_rows
     from stackopt.outputs.facts import money_digits
-    from stackopt.outputs.prepregs import prepreg_rows
 
     rows = [r for r in prepreg_rows(result) if r.cheapest is not None]
     fig = new_figure(8.6, max(2.6, 0.34 * len(rows) + 1.7))
@@ -162,14 +163,14 @@ def plot_prepregs(result: Result) -> Figure:
     ev = result.evaluation
     cur = result.problem.table.currency
     cheap = np.array([r.cheapest for r in rows])
-    best = np.array([r.best for r in rows])
+    best = np.array([r.most_robust for r in rows])
     ax1, ax2 = fig.subplots(1, 2, sharey=True)
     ys = np.arange(len(rows))
     margin = ev.margin[cheap]
     ax1.barh(ys, margin, color=np.where(margin >= 0, "#2ca02c", "#d62728"), height=0.6,
              label="cheapest board with it")
-    ax1.scatter(ev.margin[best], ys, marker="|", s=140, color="black", zorder=4,
-                label="best margin with it")
+    ax1.scatter(result.robust_margin[best], ys, marker="|", s=140, color="black", zorder=4,
+                label="most robust board with it (worst over the via models)")
     ax1.axvline(0, color="black", lw=0.8)
     ax1.set_yticks(ys, [f"{plain(r.name)} ({r.thickness * 1e3:.3g} mm, Dk {r.er:.2f})"
                         for r in rows])

@@ -13,8 +13,11 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
+import numpy as np
+
+from stackopt.analyses.prepregs import prepreg_rows
 from stackopt.model.mitigations import MITIGATIONS
-from stackopt.outputs.case import four_layer_case
+from stackopt.outputs.case import fewer_layers_words, four_layer_case
 from stackopt.outputs.circuit_echo import ELEMENT_HEAD, GROUND_HEAD, element_rows, ground_rows
 from stackopt.outputs.facts import (
     db,
@@ -23,12 +26,11 @@ from stackopt.outputs.facts import (
     money,
     money_digits,
     passband_losses,
-    passband_text,
     shortfalls,
     top_dielectric,
     unique_picks,
 )
-from stackopt.outputs.prepregs import prepreg_rows, prepreg_sentence, prepreg_table
+from stackopt.outputs.prepregs import prepreg_sentence, prepreg_table, unbuildable
 from stackopt.outputs.reasons import because, sentence
 from stackopt.outputs.report_ladder import ladder_section
 from stackopt.outputs.report_render import render_html, render_markdown
@@ -112,7 +114,7 @@ def _compare_table(result: Result, c) -> tuple:
                     db(ev.margin[b] - ev.margin[a], sign=True)))
     if pband is not None:
         il, rl = pband
-        band = passband_text(result).split(" (")[0]
+        band = result.problem.scenario.passband_words
         rows += [row(f"Passband insertion loss (worst over {band})",
                      [db(x, 2) for x in il], db(il[-1] - il[0], 2, sign=True)),
                  row(f"Passband return loss (worst over {band})", [db(x) for x in rl])]
@@ -120,7 +122,8 @@ def _compare_table(result: Result, c) -> tuple:
         row("Worst ground path (one element's inductance to the plane)",
             [fq(x, "inductance") for x in own]),
         row("Largest coupling between two ground connections (mutual inductance)",
-            [fq(x, "inductance") for x in mutual]),
+            [fq(x, "inductance") if np.isfinite(x) else "none (one shared connection)"
+             for x in mutual]),
         row("Mitigations", [", ".join(_mits(result, i)) or "none" for i in cols]),
         row("Finished thickness", [mm(ev.geometry.thickness[i]) for i in cols]),
     ]
@@ -187,9 +190,10 @@ def first_screen(result: Result) -> list[tuple]:
     out: list[tuple] = [("h2", f"Are {_words(n)} layers worth it?")]
     if c.status == "no_two_layer_in_space":
         counts = ", ".join(str(x) for x in sorted(set(result.problem.space.layer_counts)))
+        fewer = fewer_layers_words(result, n)
         out.append(("answer", f"The design space has no two-layer boards (layer counts "
                     f"searched: {counts}), so this report makes no claim about them. The "
-                    f"recommended stackup is {rec}."))
+                    f"recommended stackup is {rec}." + (" " + fewer if fewer else "")))
         return out
     if c.status == "no_feasible_two_layer":
         out.append(("answer", c.blocked_words() + f" The recommended stackup is {rec}."))
@@ -278,11 +282,16 @@ def report_document(result: Result, sweep: QuantitySweep | None = None) -> list[
     blocks += [("h2", "Which dielectric under the top copper?"),
                ("answer", prepreg_sentence(result, rows)),
                ("p", "One row per stocked dielectric the design space can put directly under "
-                     "the top copper: the cheapest board using it that can be built (among "
-                     "those the search evaluated), and the best margin reached with it."),
-               ("table", head, table),
-               ("img", "prepregs", "Cost and margin of the cheapest board with each top "
-                "dielectric.")]
+                     "the top copper and build: the cheapest board using it (among those the "
+                     "search evaluated) with its margin, its worst margin over the listed via "
+                     "models (robust margin) and its yield over the simulated builds, and the "
+                     "most robust board with it."),
+               ("table", head, table)]
+    if none := unbuildable(result, rows):
+        blocks += [("p", f"No board that can be built puts these {len(none)} stocked "
+                    "dielectrics under the top copper:"), ("ul", none)]
+    blocks.append(("img", "prepregs", "Cost and margin of the cheapest board with each top "
+                   "dielectric."))
     from stackopt.outputs.report_calibration import calibration_section
 
     blocks += calibration_section(result)

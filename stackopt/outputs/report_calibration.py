@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
-from stackopt.outputs.facts import mm
+from stackopt.outputs.facts import mm, plural
 from stackopt.units import format_quantity as fq
 
 if TYPE_CHECKING:
@@ -29,7 +29,7 @@ def calibration_note(result: Result) -> str:
     if k is None:
         return (f" (calibration file {cal.file} has no factor for this model: "
                 "uncalibrated)")
-    return (f", calibrated to {len(cal.data.coupons)} measured coupon(s): via self and "
+    return (f", calibrated to {plural(len(cal.data.coupons), 'measured coupon')}: via self and "
             f"mutual inductances x{k:.3g} (from {cal.file})")
 
 
@@ -42,7 +42,7 @@ def calibration_section(result: Result) -> list[tuple]:
     model = sc.search.via_model
     d = cal.data
     rec = d.factors.get(model)
-    head = (f"The {model} via model was calibrated to {len(d.coupons)} measured coupon(s) "
+    head = (f"The {model} via model was calibrated to {plural(len(d.coupons), 'measured coupon')} "
             f"in {cal.file} (SHA-256 {cal.sha256[:12]}…): its via self and mutual "
             f"inductances are multiplied by {rec.factor:.3g}." if rec else
             f"The calibration file {cal.file} has no coupon that calibrates the {model} "
@@ -50,7 +50,7 @@ def calibration_section(result: Result) -> list[tuple]:
     rows = []
     for c in d.coupons:
         mr = c.models.get(model)
-        geo = (f"{mm(c.depth_m)} deep, {mm(c.drill_m)} drill, {c.count} via(s)"
+        geo = (f"{mm(c.depth_m)} deep, {mm(c.drill_m)} drill, {plural(c.count, 'via')}"
                if c.kind == "via" else f"board: {c.stackup}")
         rows.append([c.name, geo,
                      fq(c.inductance_H, "inductance") if c.inductance_H else "n/a",

@@ -9,7 +9,15 @@ from typing import TYPE_CHECKING
 
 from stackopt.model.mitigations import MITIGATIONS
 from stackopt.outputs.case import four_layer_case
-from stackopt.outputs.facts import db, mm, passband_text, plural, selected_index, unique_picks
+from stackopt.outputs.facts import (
+    db,
+    mm,
+    passband_losses,
+    passband_text,
+    plural,
+    selected_index,
+    unique_picks,
+)
 from stackopt.outputs.report_calibration import calibration_note
 from stackopt.outputs.report_lines import WIDE_TRACE, impedance_table, layer_lines, line_risks
 from stackopt.search.picks import PICKS
@@ -51,6 +59,11 @@ def _copper_weight(t: float) -> str:
     return f"{oz:.2g} oz ({t * 1e6:.0f} um)"
 
 
+#: Worst passband insertion loss above which the report names it a risk, dB: half the
+#: power lost (common practice, no source).
+PASSBAND_LOSS_RISK = 3.0
+
+
 def risks(result: Result) -> list[str]:
     """Risks of the choice, in words (line widths, safety insulation, model spread,
     margin, lead time, layout rules the two-layer figure depends on)."""
@@ -89,6 +102,12 @@ def risks(result: Result) -> list[str]:
         if sc.requirements and 0 <= ev.margin[sel] < 3.0:
             out.append(f"The recommended stackup has only {db(ev.margin[sel])} of margin; "
                        "part tolerances and the fab's thickness tolerance can eat it.")
+        pband = passband_losses(result, [sel])
+        if pband is not None and pband[0][0] > PASSBAND_LOSS_RISK:
+            out.append(f"The recommended stackup loses {db(pband[0][0])} in the passband "
+                       f"({sc.passband_words}): the mounted parts' "
+                       "parasitics have moved the filter's edge into the band the signal "
+                       "uses; retune the filter (a higher cutoff) or check the passband.")
         if c.two is not None and ev.lead_time_days[sel] > ev.lead_time_days[c.two]:
             out.append(f"Lead time grows from {ev.lead_time_days[c.two]:g} (cheapest "
                        f"two-layer board) to {ev.lead_time_days[sel]:g} working days.")

@@ -64,6 +64,7 @@ def optimize(
     method: Method | None = None,
     budget: int | None = None,
     progress: Callable[[int, int], None] | None = None,
+    monte_carlo_progress: Callable[[int, int], None] | None = None,
     memo: ResponseMemo | None = None,
 ) -> Result:
     """Search the scenario's design space priced by ``cost_table``.
@@ -81,6 +82,9 @@ def optimize(
         Evaluations for NSGA-II (default: the scenario's ``search.budget``).
     progress
         Called as ``progress(done, total)`` during NSGA-II.
+    monte_carlo_progress
+        Called as ``progress(done, total)`` while the tolerance Monte Carlo solves its
+        builds (:func:`stackopt.analyses.robust.analyse`; the total grows with each batch).
     memo
         Circuit responses shared with other searches of the same scenario (other
         quantities, other fabs): phenotypes it holds are not solved again.
@@ -135,4 +139,4 @@ def optimize(
     from stackopt.analyses.robust import analyse
 
     # robust margins, model spread, yields, cheapest_robust, limits
-    return analyse(result)
+    return analyse(result, monte_carlo_progress)

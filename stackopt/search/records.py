@@ -192,8 +192,6 @@ def summary(result: Result, extra: dict | None = None) -> dict:
         "front": [result.record(int(i)) for i in result.front_order],
         "picks": {k: (None if v is None else result.record(v, check_lines=True))
                   for k, v in result.picks.items()},
-        "prepreg_pick": [{k: v for k, v in r.items() if not k.endswith("_index")}
-                         for r in result.prepreg_pick()],
         "stats": {k: (int(v) if isinstance(v, int | np.integer) else v)
                   for k, v in result.stats.items()},
     }

@@ -5,7 +5,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import Any
 
 import numpy as np
 import pandas as pd
@@ -18,7 +17,6 @@ from stackopt.search.records import (
     MODEL_DEPENDENT_DB,
     candidate_frame,
     candidate_record,
-    json_number,
     metrics_record,
     summary,
 )
@@ -188,37 +186,6 @@ class Result:
         """The mitigation ladder (:mod:`stackopt.search.ladder`), computed once per result;
         ``None`` without two-layer boards in the space."""
         return mitigation_ladder(self)
-
-    def prepreg_pick(self) -> list[dict]:
-        """For each dielectric used between the top copper and its plane (by a feasible
-        candidate): the best robust margin reached with it (ties: yield, then
-        cost) and the cheapest stackup using it that meets every requirement. Sorted by
-        best robust margin, best first."""
-        feas = np.flatnonzero(self.feasible)
-        if not len(feas):
-            return []
-        names = self.problem.space.slot_names(self.candidates)[:, 0]
-        ev = self.evaluation
-        out: list[dict[str, Any]] = []
-        for name in sorted(set(names[feas])):  # a few dozen catalogue options at most
-            rows = feas[names[feas] == name]
-            best = int(rows[np.lexsort((ev.unit_cost[rows], -self.yield_or_low[rows],
-                                        -self.robust_margin[rows]))[0]])
-            ok = rows[self.meets[rows]]
-            cheap = (int(ok[np.lexsort((-ev.margin[ok], ev.unit_cost[ok]))[0]])
-                     if len(ok) else None)
-            out.append({"top_dielectric": str(name), "er": json_number(ev.geometry.trace_er[best]),
-                        "thickness_m": json_number(ev.geometry.trace_height[best]),
-                        "best_margin_dB": json_number(ev.margin[best]),
-                        "best_robust_margin_dB": json_number(self.robust_margin[best]),
-                        "best_id": self.ids[best],
-                        "best_index": best,
-                        "cheapest_meeting_id": None if cheap is None else self.ids[cheap],
-                        "cheapest_meeting_index": cheap,
-                        "cheapest_meeting_unit_cost": (None if cheap is None
-                                                       else json_number(ev.unit_cost[cheap]))})
-        out.sort(key=lambda r: (-r["best_robust_margin_dB"], r["top_dielectric"]))
-        return out
 
     def closest(self, k: int = 3) -> list[int]:
         """The ``k`` candidates nearest to meeting the requirements: the feasible ones with
