@@ -17,10 +17,9 @@ for _v in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
     os.environ.setdefault(_v, "1")  # one core
 
 import platform
-import statistics
-import subprocess
-import sys
 import time
+
+from timing import import_numpy_floor
 
 from stackopt.inputs.costtable import load_cost_table
 from stackopt.inputs.scenario import load_scenario
@@ -47,19 +46,10 @@ def spaces():
     yield "2-12 layers, large catalogue", large, large_t
 
 
-def floor() -> float:
-    ts = []
-    for _ in range(5):
-        t = time.perf_counter()
-        subprocess.run([sys.executable, "-c", "import numpy"], check=True)
-        ts.append(time.perf_counter() - t)
-    return statistics.median(ts)
-
-
 def main() -> None:
     print(f"machine: {platform.processor() or platform.machine()}, {os.cpu_count()} cores, "
           f"load {os.getloadavg()[0]:.2f}; python {platform.python_version()}")
-    f0 = floor()
+    f0 = import_numpy_floor()
     print(f"floor: python -c 'import numpy' {f0 * 1e3:.0f} ms (median of 5)")
     print(f"{'space':32s} {'stackups':>10s} {'priced':>10s} {'reps':>9s} "
           f"{'predicted':>9s} {'measured':>9s} {'ratio':>6s}  auto")

@@ -14,9 +14,9 @@ for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
 
 import platform  # noqa: E402
 import subprocess  # noqa: E402
-import time  # noqa: E402
 
 import numpy as np  # noqa: E402
+from timing import best_of  # noqa: E402
 
 from stackopt.circuit import GroundBatch, compile_circuit, ground_inductance_matrix  # noqa: E402
 from stackopt.circuit.ladder import ladder_s  # noqa: E402
@@ -24,16 +24,6 @@ from stackopt.circuit.mna import mna_s, solve  # noqa: E402
 from stackopt.model.circuit import Circuit  # noqa: E402
 
 POINTS, LOOP_N, GRIDS = 200_000, 200, (5, 21, 101)
-
-
-def _best(fn, repeat=3):
-    fn()  # warm up (allocation, first-call costs)
-    times = []
-    for _ in range(repeat):
-        t = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - t)
-    return min(times), out
 
 
 def _circuit():
@@ -68,23 +58,23 @@ def run(nf: int) -> tuple[list[tuple[str, float]], dict[str, object]]:
     lg_self = ground_inductance_matrix(circuit, batch, mutual=False)
     self_l = np.ascontiguousarray(np.diagonal(lg_self, axis1=1, axis2=2))
     rows = []
-    t, s_lad = _best(lambda: ladder_s(circuit, freqs, self_l))
+    t, s_lad = best_of(lambda: ladder_s(circuit, freqs, self_l), warm=True)
     rows.append(("ladder ABCD kernel (uncoupled grounds)", points / t))
-    t, s_mna0 = _best(lambda: mna_s(circuit, freqs, lg_self))
+    t, s_mna0 = best_of(lambda: mna_s(circuit, freqs, lg_self), warm=True)
     rows.append(("nodal analysis kernel, same uncoupled case", points / t))
-    t, _ = _best(lambda: mna_s(circuit, freqs, lg_self, reduce=False))
+    t, _ = best_of(lambda: mna_s(circuit, freqs, lg_self, reduce=False), warm=True)
     rows.append(("  same, whole matrices (reduce=False)", points / t))
-    t, s_red = _best(lambda: mna_s(circuit, freqs, lg_coupled))
+    t, s_red = best_of(lambda: mna_s(circuit, freqs, lg_coupled), warm=True)
     rows.append(("nodal analysis kernel, coupled grounds", points / t))
-    t, s_whole = _best(lambda: mna_s(circuit, freqs, lg_coupled, reduce=False))
+    t, s_whole = best_of(lambda: mna_s(circuit, freqs, lg_coupled, reduce=False), warm=True)
     rows.append(("  same, whole matrices (reduce=False)", points / t))
-    t, _ = _best(lambda: solve(circuit, freqs, batch, mutual=False))
+    t, _ = best_of(lambda: solve(circuit, freqs, batch, mutual=False), warm=True)
     rows.append(("solve() uncoupled: grounds + ladder", points / t))
-    t, _ = _best(lambda: solve(circuit, freqs, batch))
+    t, _ = best_of(lambda: solve(circuit, freqs, batch), warm=True)
     rows.append(("solve() coupled: grounds + nodal analysis", points / t))
     sub = batch.take(np.arange(LOOP_N))
-    t, _ = _best(lambda: [solve(circuit, freqs, sub.take([i])) for i in range(LOOP_N)],
-                 repeat=1)
+    t, _ = best_of(lambda: [solve(circuit, freqs, sub.take([i])) for i in range(LOOP_N)],
+                    repeat=1, warm=True)
     rows.append(("per-candidate Python loop around solve() coupled", LOOP_N * nf / t))
     return rows, {"ladder": float(np.max(np.abs(s_lad - s_mna0))),
                   "reduced": _disagreement(s_red, s_whole)}

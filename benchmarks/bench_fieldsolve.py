@@ -22,22 +22,13 @@ import time  # noqa: E402
 import numpy as np  # noqa: E402
 import scipy.sparse as sp  # noqa: E402
 from scipy.sparse.linalg import splu  # noqa: E402
+from timing import best_of  # noqa: E402
 
 from stackopt.physics.coupled import coupled_stripline  # noqa: E402
 from stackopt.physics.fieldlines import Section, solve_section  # noqa: E402
 from stackopt.physics.stripline import stripline_cohn  # noqa: E402
 
 MM, ER, T = 1e-3, 4.3, 35e-6
-
-
-def _best(fn, repeat=3):
-    fn()
-    times = []
-    for _ in range(repeat):
-        t = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - t)
-    return min(times), out
 
 
 def _limit(sec, key):
@@ -79,7 +70,7 @@ def main():
     t0 = time.perf_counter()
     subprocess.run([sys.executable, "-c", "import numpy"], check=True)
     floor_import = time.perf_counter() - t0
-    floor_lu, _ = _best(_floor_lu())
+    floor_lu, _ = best_of(_floor_lu(), warm=True)
     print(f"# {platform.processor() or platform.machine()}, Python "
           f"{platform.python_version()}, numpy {np.__version__}, load "
           f"{os.getloadavg()[0]:.2f}")
@@ -90,7 +81,7 @@ def main():
     print("|---|---|---|---|---|---|")
     for label, make, key, exact in CASES:
         sec = make()
-        dt, r = _best(lambda sec=sec: solve_section(sec))
+        dt, r = best_of(lambda sec=sec: solve_section(sec), warm=True)
         ref = exact if exact is not None else _limit(sec, key)
         print(f"| {label} | {dt * 1e3:.1f} | {dt / floor_lu:.1f}x | {r['unknowns']:.0f} | "
               f"{100 * r['error']:.2f} % | {100 * (r[key] / ref - 1):+.2f} % |")

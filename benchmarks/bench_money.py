@@ -21,6 +21,8 @@ import subprocess
 import sys
 import time
 
+from timing import best_of
+
 import stackopt
 from stackopt.analyses.fabs import compare_fabs
 from stackopt.analyses.quantities import quantity_sweep, scenario_at
@@ -29,16 +31,6 @@ from stackopt.inputs.scenario import load_scenario
 from stackopt.search.memo import ResponseMemo
 
 LOTS = (100, 10_000, 100_000)
-
-
-def best(fn, n: int = 5) -> float:
-    """Shortest of ``n`` wall-clock runs, s."""
-    out = []
-    for _ in range(n):
-        t0 = time.perf_counter()
-        fn()
-        out.append(time.perf_counter() - t0)
-    return min(out)
 
 
 def main() -> None:
@@ -52,12 +44,12 @@ def main() -> None:
         r = stackopt.optimize(sc, quick, memo=memo)
         quantity_sweep(sc, quick, LOTS, memo=memo, main=r)
 
-    one = best(lambda: stackopt.optimize(sc, quick))
-    separate = best(lambda: [stackopt.optimize(scenario_at(sc, q), quick)
-                             for q in (sc.board.quantity, *LOTS)])
-    swept = best(sweep)
-    fabs_alone = best(lambda: [stackopt.optimize(sc, t) for t in (quick, volume)])
-    fabs = best(lambda: compare_fabs(sc, [(quick, "quickturn"), (volume, "volume")]))
+    one = best_of(lambda: stackopt.optimize(sc, quick), 5)[0]
+    separate = best_of(lambda: [stackopt.optimize(scenario_at(sc, q), quick)
+                                for q in (sc.board.quantity, *LOTS)], 5)[0]
+    swept = best_of(sweep, 5)[0]
+    fabs_alone = best_of(lambda: [stackopt.optimize(sc, t) for t in (quick, volume)], 5)[0]
+    fabs = best_of(lambda: compare_fabs(sc, [(quick, "quickturn"), (volume, "volume")]), 5)[0]
     t0 = time.perf_counter()
     subprocess.run([sys.executable, "-c", "import numpy"], check=True)
     floor = time.perf_counter() - t0

@@ -27,21 +27,13 @@ import platform
 import subprocess
 import sys
 import tempfile
-import time
 from pathlib import Path
+
+from timing import best_of
 
 ROOT = Path(__file__).resolve().parents[1]
 SCENARIOS = ("harmonic_lowpass", "two_layer_only", "consumer_emi", "lines_mixed")
 REPEATS = 3
-
-
-def best_of(fn, n: int = REPEATS) -> float:
-    out = []
-    for _ in range(n):  # repeats of a whole measurement, not a loop over candidates
-        t = time.perf_counter()
-        fn()
-        out.append(time.perf_counter() - t)
-    return min(out)
 
 
 #: ``stackopt optimize`` with :func:`stackopt.analyses.robust.analyse` switched off.
@@ -55,7 +47,8 @@ def fresh(*argv: str, bare: bool = False) -> float:
         run = ["optimize", *argv, "--out", d, "--force", "--quiet"]
         cmd = [sys.executable, *argv] if argv[0] == "-c" else \
             [sys.executable, "-c", BARE, *run] if bare else [sys.executable, "-m", "stackopt", *run]
-        return best_of(lambda: subprocess.run(cmd, check=True, env=env, cwd=ROOT))
+        return best_of(lambda: subprocess.run(cmd, check=True, env=env, cwd=ROOT),
+                       REPEATS)[0]
 
 
 def main() -> None:
@@ -73,11 +66,11 @@ def main() -> None:
         path = ROOT / "scenarios" / f"{name}.yaml"
         robust.analyse = lambda r: r  # the search alone
         try:
-            t_search = best_of(lambda: api.optimize(path))  # noqa: B023
+            t_search = best_of(lambda: api.optimize(path), REPEATS)[0]  # noqa: B023
             bare = api.optimize(path)
         finally:
             robust.analyse = real
-        t_an = best_of(lambda: real(bare))  # noqa: B023
+        t_an = best_of(lambda: real(bare), REPEATS)[0]  # noqa: B023
         t_demo = fresh(str(path))
         t_bare = fresh(str(path), bare=True)
         print(f"{name:18s} {t_search:8.2f} {t_an:9.2f} {t_demo:7.2f} {t_bare:7.2f} "

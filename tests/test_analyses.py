@@ -16,7 +16,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-import yaml
+from scenario_support import edited_copy, shunt_via_problem
 from scipy.special import ndtr
 
 import stackopt
@@ -29,23 +29,12 @@ from stackopt.analyses.tolerances import (
 )
 from stackopt.circuit import compile_circuit, solve
 from stackopt.circuit.metrics import attenuation_db
-from stackopt.inputs.costtable import load_cost_table
 from stackopt.inputs.scenario import load_scenario
 from stackopt.search.exact import exact_candidates
-from stackopt.search.problem import Problem
 
 ROOT = Path(__file__).resolve().parents[1]
 TWO = ROOT / "scenarios" / "two_layer_only.yaml"
 TABLE = ROOT / "cost_tables" / "quickturn.yaml"
-
-
-def scenario_file(tmp_path: Path, edit, source: Path = TWO) -> Path:
-    data = yaml.safe_load(source.read_text(encoding="utf-8"))
-    data.pop("cost_table", None)
-    edit(data)
-    p = tmp_path / "s.yaml"
-    p.write_text(yaml.safe_dump(data), encoding="utf-8")
-    return p
 
 
 @pytest.fixture(scope="module")
@@ -86,29 +75,11 @@ def test_cheapest_robust_meets_under_every_model_and_the_yield_target(two_layer)
     assert np.all(r.yields[cheaper] < target)  # every cheaper robust one was sampled
 
 
-def _single_via_problem(tmp_path: Path, required_db: float, robustness: dict) -> Problem:
-    """One 100 pF shunt capacitor through one ground via: above its series resonance the
-    attenuation falls as the via (the dielectric) gets thicker."""
-    def edit(d):
-        d["circuit"] = {"z0": "50 ohm", "input": "a", "output": "b", "elements": [
-            {"name": "C1", "type": "C", "value": "100 pF", "between": ["a", "gnd"],
-             "ground": "g1", "tolerance": 0},
-            {"name": "R1", "type": "R", "value": "0 ohm", "between": ["a", "b"],
-             "tolerance": 0}],
-            "grounds": [{"name": "g1", "at": ["0 mm", "0 mm"]}]}
-        d["requirements"] = [{"frequency": "6 GHz", "min_attenuation": f"{required_db} dB"}]
-        d["lines"] = []
-        d["space"] = {"layers": [2], "copper": ["1 oz"], "drills": ["0.3 mm"],
-                      "vias_per_ground": [1]}
-        d["search"] = {"objective": "margin", "robustness": robustness}
-    return Problem(load_scenario(scenario_file(tmp_path, edit)), load_cost_table(TABLE))
-
-
 @pytest.mark.parametrize("dist", ["normal", "uniform"])
 def test_yield_matches_the_analytic_distribution(tmp_path, dist):
     rb = {"samples": 400, "thickness": "10 %", "dk": 0, "etch": "0 mm", "drill": "0 mm",
           "distribution": dist}
-    p0 = _single_via_problem(tmp_path, 10.0, rb)
+    p0 = shunt_via_problem(tmp_path, 10.0, rb)
     reps = exact_candidates(p0).representatives
     deepest = int(np.argmax(p0.space.geometry(reps).via_height))  # far above resonance
     g = p0.space.geometry(reps.take(np.array([deepest])))
@@ -120,7 +91,7 @@ def test_yield_matches_the_analytic_distribution(tmp_path, dist):
 
     assert att(-0.05) > att(0.0) > att(0.05)  # monotone: thicker is worse here
     x = 0.03  # the requirement is met exactly at +3 % thickness
-    p = _single_via_problem(tmp_path, att(x), rb)
+    p = shunt_via_problem(tmp_path, att(x), rb)
     mc = monte_carlo(p, g, np.zeros((1, 0)), "goldfarb-pucel", build_draws(p))
     n = rb["samples"]
     exact = float(ndtr(x / (0.10 / 3))) if dist == "normal" else (x + 0.10) / 0.20
@@ -164,7 +135,7 @@ def test_part_values_scale_as_a_recompiled_circuit(tmp_path):
 def test_a_circuit_that_fails_with_ideal_grounds_is_named(tmp_path):
     def edit(d):  # 2 nH of ESL per shunt capacitor: the parts fail on their own
         d["circuit"]["filter"]["capacitor"] = {"esl": "2 nH"}
-    path = scenario_file(tmp_path, edit)
+    path = edited_copy(tmp_path, "s.yaml", TWO, edit)
     r = stackopt.optimize(path, TABLE)
     p = r.problem
     ideal = attenuation_db(solve(p.compiled, p.freqs))[0]  # reference: ideal grounds

@@ -17,6 +17,7 @@ from pathlib import Path
 
 import pytest
 import yaml
+from scenario_support import edited_copy
 
 from stackopt.cli.main import main
 from stackopt.errors import (
@@ -44,15 +45,6 @@ def run(*argv: str) -> tuple[int, str, str]:
     with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
         code = main(list(argv))
     return code, out.getvalue(), err.getvalue()
-
-
-def write(tmp_path: Path, name: str, source: Path, edit) -> Path:
-    data = yaml.safe_load(source.read_text(encoding="utf-8"))
-    data.pop("cost_table", None)
-    edit(data)
-    p = tmp_path / name
-    p.write_text(yaml.safe_dump(data, sort_keys=False), encoding="utf-8")
-    return p
 
 
 def check(scenario: Path, table: Path = TABLE) -> tuple[int, str, str]:
@@ -159,7 +151,7 @@ SCENARIO_ERRORS = [
 
 @pytest.mark.parametrize("path, value, words", SCENARIO_ERRORS)
 def test_scenario_range_and_dimension_errors(tmp_path, path, value, words):
-    code, _, err = check(write(tmp_path, "s.yaml", SCEN, _set(path, value)))
+    code, _, err = check(edited_copy(tmp_path, "s.yaml", SCEN, _set(path, value)))
     assert code == 2 and err.count("\n") == 1, err
     assert LOCATED.match(err), err
     key = "".join(f"[{p}]" if isinstance(p, int) else f".{p}" for p in path).lstrip(".")
@@ -183,14 +175,14 @@ TABLE_ERRORS = [
 
 @pytest.mark.parametrize("path, value, words", TABLE_ERRORS)
 def test_cost_table_range_and_dimension_errors(tmp_path, path, value, words):
-    table = write(tmp_path, "t.yaml", TABLE, _set(path, value))
+    table = edited_copy(tmp_path, "t.yaml", TABLE, _set(path, value))
     code, _, err = check(SCEN, table)
     assert code == 2 and err.count("\n") == 1, err
     assert LOCATED.match(err) and "t.yaml" in err and words in err, err
 
 
 def test_range_error_shows_the_value_as_written_and_the_accepted_range(tmp_path):
-    table = write(tmp_path, "t.yaml", TABLE, _set(_material("cores", "thickness"), "16 mm"))
+    table = edited_copy(tmp_path, "t.yaml", TABLE, _set(_material("cores", "thickness"), "16 mm"))
     with pytest.raises(InputError) as ex:
         load_cost_table(table)
     e = ex.value
@@ -212,9 +204,9 @@ def test_unusual_values_warn_on_stderr_and_still_succeed(tmp_path, target, path,
                                                          words, key):
     scen, table = FAST, TABLE
     if target == "table":
-        table = write(tmp_path, "t.yaml", TABLE, _set(path, value))
+        table = edited_copy(tmp_path, "t.yaml", TABLE, _set(path, value))
     else:
-        scen = write(tmp_path, "s.yaml", FAST, _set(path, value))
+        scen = edited_copy(tmp_path, "s.yaml", FAST, _set(path, value))
     code, out, err = check(scen, table)
     assert code == 0 and out.rstrip().endswith("ok"), err
     lines = err.splitlines()
@@ -223,7 +215,7 @@ def test_unusual_values_warn_on_stderr_and_still_succeed(tmp_path, target, path,
 
 
 def test_library_issues_warnings_without_printing(tmp_path, capsys):
-    table = write(tmp_path, "t.yaml", TABLE, _set(_material("prepregs", "dk"), 12))
+    table = edited_copy(tmp_path, "t.yaml", TABLE, _set(_material("prepregs", "dk"), 12))
     with pytest.warns(StackoptWarning, match=r"materials\.prepregs\[0\]\.dk"):
         load_cost_table(table)
     assert capsys.readouterr() == ("", "")
@@ -243,12 +235,12 @@ def test_misspelt_required_key_is_named(tmp_path):
     def edit(d):
         d["circuit"]["filter"]["cutof"] = d["circuit"]["filter"].pop("cutoff")
 
-    code, _, err = check(write(tmp_path, "s.yaml", SCEN, edit))
+    code, _, err = check(edited_copy(tmp_path, "s.yaml", SCEN, edit))
     assert code == 2 and "unknown key 'cutof' (did you mean 'cutoff'?)" in err
 
 
 def test_misspelt_choice_is_named(tmp_path):
-    code, _, err = check(write(tmp_path, "s.yaml", SCEN,
+    code, _, err = check(edited_copy(tmp_path, "s.yaml", SCEN,
                                _set(("circuit", "filter", "family"), "chebychev")))
     assert code == 2 and "(did you mean 'chebyshev'?)" in err and LOCATED.match(err)
 

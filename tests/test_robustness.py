@@ -16,7 +16,7 @@ from pathlib import Path
 
 import pandas as pd
 import pytest
-import yaml
+from scenario_support import edited_copy
 
 import stackopt
 from stackopt.cli.main import main
@@ -31,15 +31,6 @@ def run(*argv: str) -> tuple[int, str, str]:
     with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
         code = main(list(argv))
     return code, out.getvalue(), err.getvalue()
-
-
-def edited(tmp_path: Path, name: str, source: Path, edit) -> Path:
-    data = yaml.safe_load(source.read_text(encoding="utf-8"))
-    data.pop("cost_table", None)
-    edit(data)
-    p = tmp_path / name
-    p.write_text(yaml.safe_dump(data, sort_keys=False, allow_unicode=True), encoding="utf-8")
-    return p
 
 
 def optimize(out: Path, scenario: Path = FAST, table: Path = TABLE, *extra: str):
@@ -77,7 +68,7 @@ def _finite_json(text: str) -> None:
 
 def test_impossible_impedance_is_a_named_violation_not_a_crash(tmp_path):
     # 5 kohm microstrip: no width in the searched range reaches it on any board
-    sc = edited(tmp_path, "z.yaml", FAST,
+    sc = edited_copy(tmp_path, "z.yaml", FAST,
                 lambda d: d["lines"][0].update(impedance="5000 ohm"))
     code, stdout, err = run("optimize", str(sc), "--costs", str(TABLE), "--out",
                             str(tmp_path / "o"))
@@ -146,7 +137,7 @@ def _evil_inputs(tmp_path: Path) -> tuple[Path, Path]:
         for i, p in enumerate(d["materials"]["prepregs"]):
             p["glass"] = f'=HYPERLINK("http://example.invalid/{i}","pp{i}")'
 
-    return edited(tmp_path, "evil.yaml", FAST, scen), edited(tmp_path, "evil_t.yaml",
+    return edited_copy(tmp_path, "evil.yaml", FAST, scen), edited_copy(tmp_path, "evil_t.yaml",
                                                              TABLE, table)
 
 
@@ -177,7 +168,7 @@ def test_csv_formula_cells_are_neutralised(evil_out):
 
 # ---- no file left behind ---------------------------------------------------------------
 def test_input_error_leaves_no_output_folder(tmp_path):
-    bad = edited(tmp_path, "bad.yaml", FAST, lambda d: d["board"].update(width="1 GHz"))
+    bad = edited_copy(tmp_path, "bad.yaml", FAST, lambda d: d["board"].update(width="1 GHz"))
     out = tmp_path / "o"
     code, _, err = run("optimize", str(bad), "--costs", str(TABLE), "--out", str(out))
     assert code == 2 and err.count("\n") == 1
@@ -186,7 +177,7 @@ def test_input_error_leaves_no_output_folder(tmp_path):
 
 def test_search_error_leaves_no_file(tmp_path):
     # the fab prices no 10-layer board: the design space is empty (a user error)
-    bad = edited(tmp_path, "ten.yaml", FAST, lambda d: d["space"].update(layers=[10]))
+    bad = edited_copy(tmp_path, "ten.yaml", FAST, lambda d: d["space"].update(layers=[10]))
     out = tmp_path / "o"
     code, _, err = run("optimize", str(bad), "--costs", str(TABLE), "--out", str(out))
     assert code == 2, err

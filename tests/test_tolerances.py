@@ -24,7 +24,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-import yaml
+from scenario_support import edited_copy, shunt_via_problem
 from scipy.special import ndtr
 
 import stackopt
@@ -43,15 +43,6 @@ MIXED = ROOT / "scenarios" / "lines_mixed.yaml"
 TABLE = ROOT / "cost_tables" / "quickturn.yaml"
 
 
-def _yaml(tmp_path: Path, name: str, source: Path, edit) -> Path:
-    data = yaml.safe_load(source.read_text(encoding="utf-8"))
-    data.pop("cost_table", None)
-    edit(data)
-    p = tmp_path / name
-    p.write_text(yaml.safe_dump(data, sort_keys=False), encoding="utf-8")
-    return p
-
-
 def _table(tmp_path: Path, prepreg_tol: dict[str, str], core_tol: str | None = None,
            name: str = "t.yaml") -> Path:
     def edit(d):
@@ -61,27 +52,7 @@ def _table(tmp_path: Path, prepreg_tol: dict[str, str], core_tol: str | None = N
         if core_tol is not None:
             for c in d["materials"]["cores"]:
                 c["thickness_tolerance"] = core_tol
-    return _yaml(tmp_path, name, TABLE, edit)
-
-
-def _four_layer_problem(tmp_path: Path, table: Path, required_db: float, rb: dict
-                        ) -> Problem:
-    """One 100 pF shunt capacitor through one ground via on a four-layer board: the via
-    crosses only the top prepreg when the ground plane is L2."""
-    def edit(d):
-        d["circuit"] = {"z0": "50 ohm", "input": "a", "output": "b", "elements": [
-            {"name": "C1", "type": "C", "value": "100 pF", "between": ["a", "gnd"],
-             "ground": "g1", "tolerance": 0},
-            {"name": "R1", "type": "R", "value": "0 ohm", "between": ["a", "b"],
-             "tolerance": 0}],
-            "grounds": [{"name": "g1", "at": ["0 mm", "0 mm"]}]}
-        d["requirements"] = [{"frequency": "6 GHz", "min_attenuation": f"{required_db} dB"}]
-        d["lines"] = []
-        d["space"] = {"layers": [4], "copper": ["1 oz"], "drills": ["0.3 mm"],
-                      "vias_per_ground": [1]}
-        d["search"] = {"objective": "margin", "robustness": rb}
-    sc = _yaml(tmp_path, f"s{required_db:.6f}.yaml", TWO, edit)
-    return Problem(load_scenario(sc), load_cost_table(table))
+    return edited_copy(tmp_path, name, TABLE, edit)
 
 
 @pytest.mark.parametrize("dist", ["normal", "uniform"])
@@ -89,7 +60,7 @@ def test_per_material_tolerance_gives_the_analytic_yield(tmp_path, dist):
     rb = {"samples": 400, "dk": 0, "etch": "0 mm", "drill": "0 mm", "distribution": dist}
     tol = 0.03  # the 2116 prepreg's own; the fab's default stays 10 %
     table = _table(tmp_path, {"2116": "3 %"})
-    p0 = _four_layer_problem(tmp_path, table, 10.0, rb)
+    p0 = shunt_via_problem(tmp_path, 10.0, layers=4, table=table, robustness=rb)
     reps = exact_candidates(p0).representatives
     g_all = p0.space.geometry(reps)
     pp = p0.table.material_index("pp-2116")
@@ -113,7 +84,7 @@ def test_per_material_tolerance_gives_the_analytic_yield(tmp_path, dist):
         c = float(ndtr(x / (t / 3))) if dist == "normal" else (x + t) / (2 * t)
         return 1.0 - c if rising else c
 
-    p = _four_layer_problem(tmp_path, table, att(x), rb)
+    p = shunt_via_problem(tmp_path, att(x), layers=4, table=table, robustness=rb)
     mc = monte_carlo(p, g, np.zeros((1, 0)), "goldfarb-pucel", build_draws(p))
     n = rb["samples"]
     exact = cdf(tol)
@@ -124,7 +95,7 @@ def test_per_material_tolerance_gives_the_analytic_yield(tmp_path, dist):
     # another material's tolerance (every core, the other prepregs) changes nothing
     other = _table(tmp_path, {"106": "20 %", "1080": "1 %", "7628": "40 %"}, "25 %",
                    name="other.yaml")
-    table2 = _yaml(tmp_path, "t2.yaml", other, lambda d: [
+    table2 = edited_copy(tmp_path, "t2.yaml", other, lambda d: [
         p.update(thickness_tolerance="3 %") for p in d["materials"]["prepregs"]
         if p["glass"] == "2116"])
     p2 = Problem(p.scenario, load_cost_table(table2))
@@ -139,7 +110,7 @@ def test_per_material_tolerance_gives_the_analytic_yield(tmp_path, dist):
 
 def test_every_layer_draws_its_own_thickness(tmp_path):
     table = _table(tmp_path, {"2116": "3 %"}, "6 %")
-    p = _four_layer_problem(tmp_path, table, 10.0, {"samples": 64})
+    p = shunt_via_problem(tmp_path, 10.0, layers=4, table=table, robustness={"samples": 64})
     reps = exact_candidates(p).representatives
     g = p.space.geometry(reps.take(np.arange(min(8, len(reps)))))
     d = build_draws(p)
@@ -217,7 +188,7 @@ def test_microstrip_spread_matches_scikit_rf(tmp_path):
     skrf = pytest.importorskip("skrf")
     from skrf.media import MLine
 
-    sc = _yaml(tmp_path, "two.yaml", TWO, lambda d: d["space"].update(
+    sc = edited_copy(tmp_path, "two.yaml", TWO, lambda d: d["space"].update(
         mitigations=[]))  # no coplanar pour: the line stays a microstrip
     p = Problem(load_scenario(sc), load_cost_table(TABLE))
     reps = exact_candidates(p).representatives
@@ -247,7 +218,7 @@ def test_equal_yield_keys_give_equal_builds(tmp_path):
     from stackopt.search.phenotype import unique_rows
 
     table = _table(tmp_path, {"2116": "3 %"}, "6 %")
-    p = _four_layer_problem(tmp_path, table, 10.0, {"samples": 32})
+    p = shunt_via_problem(tmp_path, 10.0, layers=4, table=table, robustness={"samples": 32})
     reps = exact_candidates(p).representatives
     g = p.space.geometry(reps)
     i = int(np.flatnonzero(g.stack.ground_plane(0)[:, 0] == 1)[0])  # vias end on L2
