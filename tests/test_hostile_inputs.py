@@ -12,7 +12,8 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
-from test_robustness import edited, run
+from scenario_support import edited_copy
+from test_robustness import run
 
 from stackopt.errors import InputError
 from stackopt.inputs.yamlio import parse_yaml_text
@@ -26,7 +27,7 @@ VOLUME = ROOT / "cost_tables" / "volume.yaml"
 
 
 def scenario(tmp_path: Path, edit, source: Path = EMI, name: str = "s.yaml") -> Path:
-    return edited(tmp_path, name, source, edit)
+    return edited_copy(tmp_path, name, source, edit)
 
 
 def check(path: Path, table: Path = VOLUME) -> tuple[int, str, str]:
