@@ -159,6 +159,14 @@ def test_demo_picks_hold_under_every_model():
     for rec in s["front"]:  # any thick-prepreg board still ranked is marked
         if abs(rec["ground_plane_depth_m"] - 0.345e-3) < 1e-6:
             assert rec["model_dependent"] == (rec["model_spread_dB"] > 3.0)
+    from stackopt.outputs.prepregs import prepreg_summary
+
+    rows = [p["most_robust"] | {"thickness_m": p["thickness_m"]} for p in prepreg_summary(r)
+            if p["most_robust"] is not None]  # summary.json 'prepregs': each board marked
+    assert [x for x in rows if abs(x["thickness_m"] - 0.345e-3) < 1e-6]  # 2116 x3 ranked
+    for row in rows:
+        assert row["model_spread_dB"] is not None
+        assert row["model_dependent"] == (row["model_spread_dB"] > 3.0)
     assert set(s["limits"]) <= set(s["picks"])
     for v in s["limits"].values():
         assert v["mechanism"] in ("stackup_self_inductance", "ground_coupling", "circuit",

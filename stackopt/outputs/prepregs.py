@@ -21,6 +21,7 @@ from stackopt.analyses.prepregs import (
 )
 from stackopt.outputs.facts import db, mm, money, money_digits
 from stackopt.outputs.reasons import because
+from stackopt.outputs.robust_text import model_mark
 
 if TYPE_CHECKING:
     from stackopt.search.results import Result
@@ -106,19 +107,20 @@ def prepreg_table(result: Result, rows: list[PrepregRow] | None = None, compact:
             continue  # listed apart, with the reason (unbuildable)
         cells = [result.ids[i] + ("" if compact else f" ({int(ev.geometry.layers[i])} "
                                   "layers)"), money(ev.unit_cost[i], cur, digits),
-                 db(ev.margin[i], sign=True)]
+                 db(ev.margin[i], sign=True) + model_mark(result, i)]
         if rb:
             cells += [db(result.robust_margin[i], sign=True), yield_text(result, i)]
         cells.append("yes" if result.meets[i] else "no")
         if k is None:
             best = "-"
         elif compact:
-            best = db((result.robust_margin if rb else ev.margin)[k], sign=True)
+            best = db((result.robust_margin if rb else ev.margin)[k], sign=True) \
+                + model_mark(result, k)
         elif rb:
             best = (f"{result.ids[k]}: {db(result.robust_margin[k], sign=True)}, "
-                    f"{yield_text(result, k)}")
+                    f"{yield_text(result, k)}{model_mark(result, k)}")
         else:
-            best = f"{result.ids[k]}: {db(ev.margin[k], sign=True)}"
+            best = f"{result.ids[k]}: {db(ev.margin[k], sign=True)}{model_mark(result, k)}"
         if compact:
             out.append([r.name, mm(r.thickness), *cells, best])
         else:
@@ -160,6 +162,8 @@ def prepreg_summary(result: Result, rows: list[PrepregRow] | None = None) -> lis
         return {"id": result.ids[i], "unit_cost": _num(ev.unit_cost[i]),
                 "margin_dB": _num(ev.margin[i]),
                 "robust_margin_dB": _num(result.robust_margin[i]), "yield": y,
+                "model_spread_dB": _num(result.model_spread[i]),
+                "model_dependent": bool(result.model_dependent[i]),
                 "meets_requirements": bool(result.meets[i])}
 
     return [{"top_dielectric": r.name, "kind": r.kind, "thickness_m": r.thickness,
