@@ -304,3 +304,21 @@ def test_without_two_layers_the_headline_says_why_fewer_layers_fail():
     head = next(b[1] for b in report_document(res) if b[0] == "answer")
     assert "no claim about them" in head and "No 4-layer board can be built" in head
     assert "clk50" in head
+
+
+def test_unnamed_requirements_read_as_frequencies_with_units():
+    # a requirement without a name is called by its frequency (or band) with its unit,
+    # never by a bare number of hertz such as "1.736e+09"
+    import stackopt
+    from stackopt.inputs.costtable import load_cost_table
+    from stackopt.inputs.scenario import load_scenario
+
+    sc = load_scenario(ROOT / "scenarios" / "harmonic_lowpass.yaml")
+    sc = sc.model_copy(update={"requirements": tuple(
+        r.model_copy(update={"name": None}) for r in sc.requirements)})
+    res = stackopt.optimize(sc, load_cost_table(ROOT / "cost_tables" / "quickturn.yaml"))
+    text = report_markdown(res)
+    assert "e+0" not in text
+    assert "at 1.736 GHz" in text and "2.604 GHz" in text
+    band = load_scenario(ROOT / "scenarios" / "consumer_emi.yaml").requirements[0]
+    assert band.model_copy(update={"name": None}).label == "300 MHz to 1 GHz"

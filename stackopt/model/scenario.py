@@ -28,6 +28,7 @@ from stackopt.model.searchspec import (
     ThicknessWindow,
 )
 from stackopt.physics.linetypes import PAIR_TYPES, STRIPLINE_TYPES, check_line_type
+from stackopt.units import format_quantity
 
 __all__ = [
     "Board",
@@ -118,13 +119,15 @@ class Requirement(BaseModel):
 
     @property
     def label(self) -> str:
-        """A short name: the given name, or the frequency/band in Hz."""
+        """A short name for people: the given name, or the frequency / band with its unit
+        (``"1.736 GHz"``, ``"300 MHz to 1 GHz"``; six digits, so labels stay apart)."""
         if self.name:
             return self.name
         if self.frequency is not None:
-            return f"{self.frequency:.6g}"
+            return format_quantity(self.frequency, "frequency", 6)
         assert self.band is not None  # guaranteed by the validator
-        return f"{self.band[0]:.6g}-{self.band[1]:.6g}"
+        return (f"{format_quantity(self.band[0], 'frequency', 6)} to "
+                f"{format_quantity(self.band[1], 'frequency', 6)}")
 
     @property
     def key(self) -> str:
