@@ -211,3 +211,40 @@ def test_calc_line_starts_without_the_field_solver_or_heavy_libraries():
     out = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True,
                          timeout=120).stdout.strip().splitlines()[-1]
     assert out == "[]"
+
+
+def test_two_dielectric_stripline_from_the_command_line(capsys):
+    # a trace on a 0.2 mm core (Dk 4.6) under a 0.3 mm prepreg (Dk 3.9), plane spacing
+    # 0.535 mm with 35 um copper: the CLI's field solve against the independent test solver
+    # tests/reference/fd2d.py with the same two dielectric rectangles (within 1 %); the
+    # closed form takes the thickness-weighted mean Dk (Wadell's offset form)
+    from dataclasses import replace
+
+    from reference import fd2d
+
+    w, h1, h2, e1, e2, t = 0.15e-3, 0.2e-3, 0.3e-3, 4.6, 3.9, 35e-6
+    b = h1 + h2 + t
+    off = h1 + t / 2 - b / 2
+    args = ("--type", "stripline", "--height", f"{b * 1e3:.6g}mm", f"--offset={off * 1e3:.6g}mm",
+            "--er", str(e1), "--er-above", str(e2), "--width", "0.15mm")
+    r = _json(capsys, *args, "--solver", "field")
+    base = fd2d.stripline_box(w, b, e1, t, offset=off)
+    diel = (fd2d.Rect(0, base.x_max, 0, h1, e1), fd2d.Rect(0, base.x_max, h1, b, e2))
+    ref = fd2d.solve_line(replace(base, dielectrics=diel))[0]
+    assert r["z0_ohm"] == pytest.approx(ref.z0, rel=0.01)
+    assert r["eps_eff"] == pytest.approx(ref.eps_eff, rel=0.01)
+    assert r["er_above"] == e2
+    cf = _json(capsys, *args)
+    er_mean = (e1 * h1 + e2 * (h2 + t)) / b
+    assert cf["eps_eff"] == pytest.approx(er_mean)
+    assert cf["z0_ohm"] == pytest.approx(float(stripline(w, b, er_mean, t, off)))
+
+
+@pytest.mark.parametrize("argv,key", [
+    (["--type", "microstrip", "--height", "0.2mm", "--er", "4.2", "--er-above", "3.9",
+      "--width", "0.3mm"], "--er-above"),
+])
+def test_two_dielectric_options_only_for_stripline(capsys, argv, key):
+    assert main(["calc", "line", *argv]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and key in err

@@ -140,9 +140,9 @@ def test_infeasible_two_layer_space_is_said_plainly():
     assert len(lad.steps) == 1 and not lad.evaluation.feasible[0]
     answer = ladder_section(r, lad)[1][1]
     assert answer.startswith("No: none of the 40 two-layer combinations can be built")
-    assert "5000 ohm line 'z'" in answer and answer.endswith(".")
-    assert "line_z_unreachable" not in answer
-    assert "gives the 5000 ohm line 'z' its impedance" in answer
+    assert "5000 ohm line 'z@L1'" in answer and answer.endswith(".")
+    assert "line_z@L1_unreachable" not in answer
+    assert "gives the 5000 ohm line 'z@L1' its impedance" in answer
 
 
 @pytest.mark.parametrize("name", ["two", "emi", "harmonic"])

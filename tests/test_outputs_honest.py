@@ -96,7 +96,7 @@ def test_no_feasible_two_layer_names_the_blocking_constraint():
     assert head.startswith("No two-layer board can be built")
     assert "Two layers would be feasible if" in head
     # one route: the line may be wider than its 0.5 mm limit
-    assert re.search(r"the 50 ohm line 'rf50' may be [\d.]+ mm wide \(limit 0.5 mm\)", head)
+    assert re.search(r"the 50 ohm line 'rf50@L1' may be [\d.]+ mm wide \(limit 0.5 mm\)", head)
     assert head.endswith(".") and "line_rf50" not in head
     # the ladder neither starts from nor plots an infeasible board
     from stackopt.outputs.bundle import render_all

@@ -79,10 +79,10 @@ def test_impossible_impedance_is_a_named_violation_not_a_crash(tmp_path):
     assert json.loads(text)["picks"]["cheapest_meeting_requirements"] is None
     df = pd.read_csv(out / "candidates.csv")
     assert not df["feasible"].any()
-    assert df["violations"].str.contains("line_rf50_unreachable").all()
+    assert df["violations"].str.contains("line_rf50@L1_unreachable").all()
     assert "No candidate satisfies" in stdout  # the console says why in words, no codes
-    assert "gives the 5000 ohm line 'rf50' its impedance" in stdout
-    assert "line_rf50_unreachable" not in stdout
+    assert "gives the 5000 ohm line 'rf50@L1' its impedance" in stdout
+    assert "line_rf50@L1_unreachable" not in stdout
 
 
 def test_nonfinite_response_is_a_named_violation(monkeypatch):

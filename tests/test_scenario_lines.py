@@ -44,16 +44,48 @@ def _demo(layers):
 
 def test_every_candidate_carries_all_three_lines():
     # 50 ohm microstrip on L1, 50 ohm stripline inside, 90 ohm pair: six-layer boards have
-    # an inner signal layer between planes, so every candidate gets all three widths
+    # an inner signal layer between planes, so every candidate gets all three lines, each
+    # on every layer where its type applies (the stripline on each inner signal layer, the
+    # pair on both outer layers)
     p = Problem(_demo([6]), TABLE)
+    names = [rt.name for rt in p.routes]
+    assert names == ["ant50@L1", "clk50@L3", "clk50@L4", "usb90@L1", "usb90@L6"]
     c = enumerate_all(p.space)
     g = p.space.geometry(c)
-    w = p.line_widths(g)
-    assert w.shape == (len(c), 3) and np.isfinite(w).all()
-    assert (p.line_layers(g) == [0, 2, 0]).all()  # L1, L3 (S-G-S-S-P-S), L1
+    w, layers = p.line_widths(g), p.line_layers(g)
+    assert w.shape == layers.shape == (len(c), 5)
+    assert p.line_present(layers).all()
+    assert np.isfinite(w[layers >= 0]).all() and np.isnan(w[layers < 0]).all()
+    arr = np.array([a.name for a in p.space.arrangements])[c.arr]
+    # S-G-S-S-P-S: L3 and L4 both lie between G (L2) and P (L5); S-G-S-P-G-S: L3 only
+    both = arr == "S-G-S-S-P-S"
+    assert (layers[both] == [0, 2, 3, 0, 5]).all()
+    assert (layers[~both] == [0, 2, -1, 0, 5]).all()
     # the pair's spacing is checked against the fab's minimum space
     ev = p.evaluate(c.take(np.arange(50)))
     assert "min_space" in ev.violations
+    assert {"line_clk50@L4_unreachable", "line_usb90@L6_too_wide"} <= set(ev.violations)
+
+
+def test_absent_layer_is_no_violation_and_each_layer_has_its_own_constraints():
+    # a microstrip without 'layer' runs on both outer layers; an asymmetric board puts a
+    # different dielectric under the bottom one: its own width, its own max_width check.
+    # A layer of the space the board lacks (L6 of a four-layer board) is no violation.
+    sc = scenario(layers=(4, 6), symmetric=False, lines=(
+        {"name": "m", "type": "microstrip", "impedance": "50 ohm", "max_width": "0.3 mm"},))
+    p = Problem(sc, TABLE)
+    assert [rt.name for rt in p.routes] == ["m@L1", "m@L4", "m@L6"]
+    ev = p.evaluate(enumerate_all(p.space))
+    layers, w = ev.line_layers, ev.widths
+    four = ev.geometry.layers == 4
+    assert (layers[four, 2] == -1).all() and not (ev.violations["line_m@L6_too_wide"][four]
+                                                  > 0).any()
+    assert not (ev.violations["line_m_no_layer"] > 0).any()
+    bottom_only = (w[:, 0] <= 0.3e-3) & (np.nan_to_num(w[:, 1]) > 0.3e-3)
+    assert bottom_only.any()  # the bottom dielectric alone breaks the limit somewhere
+    assert (ev.violations["line_m@L4_too_wide"][bottom_only] > 0).all()
+    assert not (ev.violations["line_m@L1_too_wide"][bottom_only] > 0).any()
+    assert not ev.feasible[bottom_only].any()
 
 
 def test_stripline_has_no_layer_on_four_layer_boards_only():
@@ -82,22 +114,25 @@ def test_demo_outputs_show_every_line(tmp_path):
     assert main(["optimize", str(DEMO), "--out", str(out)]) == 0
     summary = json.loads((out / "summary.json").read_text())
     pick = summary["picks"]["cheapest_meeting_requirements"]
-    assert set(pick["line_widths_m"]) == {"ant50", "clk50", "usb90"}
-    assert pick["line_spacings_m"] == {"usb90": pytest.approx(0.2e-3)}
+    assert {"ant50@L1", "clk50@L3", "usb90@L1"} <= set(pick["line_widths_m"])
+    assert pick["line_spacings_m"]["usb90@L1"] == pytest.approx(0.2e-3)
     rows = {r["name"]: r for r in pick["lines"]}
-    assert [rows[k]["layer"] for k in ("ant50", "clk50", "usb90")] == ["L1", "L3", "L1"]
+    assert {r["line"] for r in pick["lines"]} == {"ant50", "clk50", "usb90"}
+    assert all(r["name"] == f"{r['line']}@{r['layer']}" for r in pick["lines"])
     for r in rows.values():
         assert r["z_ohm"] == pytest.approx(r["target_ohm"], rel=1e-4)  # closed form
         assert r["width_field_m"] is not None and r["z_field_ohm"] is not None
     report = (out / "report.md").read_text()
     assert "## Controlled-impedance lines" in report
-    for name, layer in (("ant50", "L1"), ("clk50", "L3"), ("usb90", "L1")):
-        assert f"| {name} | {layer} |" in report
+    for name in rows:
+        assert f"| {name} | {name.split('@')[1]} |" in report
     sel = yaml.safe_load((out / "selected.yaml").read_text())
     ci = {r["name"]: r for r in sel["controlled_impedance"]}
-    assert ci["usb90"]["differential"] == "90 ohm" and ci["usb90"]["spacing"] == "0.2 mm"
-    assert ci["clk50"]["layer"] == "L3" and ci["clk50"]["solver"] == "field"
-    _independent_check(sel, ci)
+    assert ci["usb90@L1"]["differential"] == "90 ohm"
+    assert ci["usb90@L1"]["spacing"] == "0.2 mm"
+    assert ci["clk50@L3"]["layer"] == "L3" and ci["clk50@L3"]["solver"] == "field"
+    assert sel["solder_mask"] == {"thickness": "20 um", "dk": 3.5}
+    _independent_check(sel, ci["clk50@L3"])
 
 
 def _mm(text: str) -> float:
@@ -121,7 +156,7 @@ def _independent_check(sel, ci):
                                 if r["kind"] != "copper"])
     er_hi = above["dk"]
     assert below["kind"] != "copper"
-    w = _mm(ci["clk50"]["width"])
+    w = _mm(ci["width"])
     b = h_lo + t + h_hi
     base = fd2d.stripline_box(w, b, er_lo, t, offset=h_lo + t / 2 - b / 2)
     diel = (fd2d.Rect(0, base.x_max, 0, h_lo, er_lo),
@@ -168,8 +203,8 @@ def test_eval_prints_every_line_with_layer_and_field_width(tmp_path, capsys):
     assert main(["eval", str(DEMO), "--stackup", str(out / "selected.yaml"), "--json"]) == 0
     got = json.loads(capsys.readouterr().out)
     rows = {r["name"]: r for r in got["lines"]}
-    assert rows["usb90"]["spacing_m"] == pytest.approx(0.2e-3)
-    assert rows["clk50"]["layer"] == "L3" and rows["clk50"]["width_field_m"] > 0
+    assert rows["usb90@L1"]["spacing_m"] == pytest.approx(0.2e-3)
+    assert rows["clk50@L3"]["layer"] == "L3" and rows["clk50@L3"]["width_field_m"] > 0
 
 
 def test_cpwg_gap_and_pair_spacing_meet_the_fab_minimum_space():
@@ -180,3 +215,15 @@ def test_cpwg_gap_and_pair_spacing_meet_the_fab_minimum_space():
     fab_min = TABLE.capabilities.min_space
     assert 0.05e-3 < fab_min  # the invented quick-turn table's minimum space is wider
     assert (ev.violations["min_space"] > 0).all()
+
+
+def test_exact_search_is_exact_with_a_bottom_layer_line():
+    # a default microstrip also runs on the bottom layer; on asymmetric boards its width
+    # depends on the bottom dielectric (the exact search's tail unless marked): exact must
+    # still equal brute force
+    # (with only the top layer's dielectric marked, this front differs from brute force)
+    sc = scenario(layers=(4,), symmetric=False, lines=(
+        {"name": "m", "type": "microstrip", "impedance": "50 ohm", "max_width": "0.2 mm"},))
+    r = optimize(sc, TABLE, method="exact")
+    brute, n = brute_front(sc)
+    assert front_points(r) == brute and r.evaluated < n

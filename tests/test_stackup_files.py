@@ -50,5 +50,7 @@ def test_every_front_candidate_and_pick_reads_back_to_its_row(tmp_path, capsys):
         assert got["margin_dB"] == pytest.approx(row["margin_dB"], abs=1e-6), f.stem
         assert abs(got["unit_cost"] - row["unit_cost"]) < 0.005, f.stem
         assert got["thickness_m"] == pytest.approx(row["thickness_m"], rel=1e-9), f.stem
-        assert got["line_widths_m"]["rf50"] == pytest.approx(row["width_rf50_m"], rel=1e-6)
+        assert "rf50@L1" in got["line_widths_m"], f.stem  # every layer of the line, named
+        for name, w in got["line_widths_m"].items():
+            assert w == pytest.approx(row[f"width_{name}_m"], rel=1e-6), (f.stem, name)
         assert got["meets_requirements"] == bool(row["meets_requirements"]), f.stem

@@ -1,10 +1,12 @@
-"""The impedance table of a candidate: every controlled-impedance line, its layer, width,
+"""The impedance table of a candidate: every controlled-impedance line on every layer that
+carries it (a route, named ``<line>@L<k>``: :mod:`stackopt.model.routing`), its width,
 spacing and achieved impedance, checked and refined by the 2-D field solver.
 
 The search sizes every line of every candidate by closed form
 (:meth:`stackopt.search.problem.Problem.line_widths`); for the few candidates shown to the
 user (the picks) this analysis solves each line's cross-section with the field solver
-(:mod:`stackopt.physics.fieldlines`, solder mask included where the scenario gives one):
+(:mod:`stackopt.physics.fieldlines`, solder mask included where the scenario or the cost
+table gives one: :attr:`stackopt.search.problem.Problem.solder_mask`):
 the impedance the closed-form width really has, and the width that meets the target by
 field solve (the closed form to start, the field solve to finish). Identical
 cross-sections are solved once.
@@ -24,9 +26,12 @@ __all__ = ["LineRow", "line_rows"]
 
 @dataclass(frozen=True)
 class LineRow:
-    """One line on one candidate [SI]; ``None`` where not applicable or not reachable."""
+    """One line on one layer of a candidate [SI]; ``None`` where not applicable or not
+    reachable. A line that no layer of the candidate can carry has one row with ``layer``
+    ``None`` and ``name`` the line's own name."""
 
-    name: str
+    name: str  # the route: "rf50@L1" (the line's name alone when it has no layer)
+    line: str  # the scenario line's name
     type: str  # the kind actually built (a microstrip in a coplanar pour is a cpwg)
     layer: str | None  # "L3"; None: no layer of this stackup can carry the line
     target_ohm: float  # Z0, or Zdiff for a pair
@@ -58,38 +63,54 @@ def _scalar(spec: LineSpec, k: int) -> LineSpec:
                     gap=spec.gap, mask_t=spec.mask_t, mask_er=spec.mask_er, model=spec.model)
 
 
+def _no_layer(ln) -> LineRow:
+    return LineRow(name=ln.name, line=ln.name, type=ln.type, layer=None,
+                   target_ohm=ln.target, differential=ln.type in PAIR_TYPES, width_m=None,
+                   spacing_m=ln.spacing, gap_m=None, z_ohm=None, z_field_ohm=None,
+                   width_field_m=None, field_error=None)
+
+
 def line_rows(problem, geometry, i: int, widths_row: np.ndarray, check: bool = True,
               cache: dict | None = None) -> list[LineRow]:
-    """The lines of candidate ``i`` of ``geometry`` (a batch) with widths ``widths_row``.
+    """The routes of candidate ``i`` of ``geometry`` (a batch) with widths ``widths_row``
+    (one per :attr:`~stackopt.search.problem.Problem.routes`): a row per line and layer
+    that carries it there, in the scenario's order; a line with no layer gets one row.
 
     ``check`` adds the field solve (``z_field_ohm``, ``width_field_m``); ``cache`` (a dict)
     shares solves between candidates with the same cross-section.
     """
     cache = {} if cache is None else cache
-    out = []
-    for j, ln in enumerate(problem.scenario.lines):
-        lb = problem.line_batch(geometry, j).take(np.array([i]))
-        layer = int(lb.layer[0])
-        w = _num(widths_row[j])
-        pair = ln.type in PAIR_TYPES
-        row = dict(name=ln.name, layer=None if layer < 0 else f"L{layer + 1}",
-                   target_ohm=ln.target, differential=pair, width_m=w,
-                   spacing_m=ln.spacing, gap_m=None, z_ohm=None, z_field_ohm=None,
-                   width_field_m=None, field_error=None, type=ln.type)
-        if layer >= 0:
-            spec = _scalar(problem.line_spec(j, lb), 0)
-            row["type"], row["gap_m"] = spec.type, spec.gap
-            key = "z_diff" if pair else "z0"
-            if w is not None:
-                row["z_ohm"] = _num(closed_form(spec, w)[key])
-            if check and w is not None:
-                ck = (spec, w, ln.target)
-                if ck not in cache:
-                    f = field(spec, w)
-                    wf, ok = line_width(spec, ln.target, w_min=0.25 * w, w_max=4.0 * w,
-                                        solver="field")
-                    cache[ck] = (f[key], f["error"], float(wf) if bool(ok) else math.nan)
-                zf, err, wf = cache[ck]
-                row.update(z_field_ohm=_num(zf), field_error=_num(err), width_field_m=_num(wf))
-        out.append(LineRow(**row))
-    return out
+    rows: dict[int, list[LineRow]] = {j: [] for j in range(len(problem.scenario.lines))}
+    for r, rt in enumerate(problem.routes):  # a handful of routes
+        lb = problem.line_batch(geometry, r).take(np.array([i]))
+        if int(lb.layer[0]) >= 0:
+            rows[rt.line].append(_route_row(problem, r, lb, widths_row[r], check, cache))
+    return [x for j, ln in enumerate(problem.scenario.lines)
+            for x in (rows[j] or [_no_layer(ln)])]
+
+
+def _route_row(problem, r: int, lb, width: float, check: bool, cache: dict) -> LineRow:
+    """The row of route ``r`` on the one candidate of ``lb`` (its layer exists there)."""
+    rt = problem.routes[r]
+    ln = problem.scenario.lines[rt.line]
+    w = _num(width)
+    pair = ln.type in PAIR_TYPES
+    row = dict(name=rt.name, line=ln.name, layer=f"L{rt.layer + 1}",
+               target_ohm=ln.target, differential=pair, width_m=w,
+               spacing_m=ln.spacing, gap_m=None, z_ohm=None, z_field_ohm=None,
+               width_field_m=None, field_error=None, type=ln.type)
+    spec = _scalar(problem.line_spec(r, lb), 0)
+    row["type"], row["gap_m"] = spec.type, spec.gap
+    key = "z_diff" if pair else "z0"
+    if w is not None:
+        row["z_ohm"] = _num(closed_form(spec, w)[key])
+    if check and w is not None:
+        ck = (spec, w, ln.target)
+        if ck not in cache:
+            f = field(spec, w)
+            wf, ok = line_width(spec, ln.target, w_min=0.25 * w, w_max=4.0 * w,
+                                solver="field")
+            cache[ck] = (f[key], f["error"], float(wf) if bool(ok) else math.nan)
+        zf, err, wf = cache[ck]
+        row.update(z_field_ohm=_num(zf), field_error=_num(err), width_field_m=_num(wf))
+    return LineRow(**row)

@@ -64,7 +64,7 @@ class _Sampler:
         self.done = 0
         self.problem = result.problem
         self.draws = build_draws(self.problem)
-        n, lines = result.n, len(self.problem.scenario.lines)
+        n, lines = result.n, len(self.problem.routes)
         self.yields = np.full(n, np.nan)
         self.zrange = np.full((n, lines, 2), np.nan)
         self.margins: dict[int, np.ndarray] = {}

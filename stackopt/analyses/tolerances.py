@@ -34,7 +34,7 @@ of ``candidates × samples`` boards, the ground inductance of each distinct (cir
 input, sample) pair — candidates that share their electrical phenotype and the
 tolerances of the layers it depends on share their builds — the element impedances of
 every sample and one nodal solve per (build, frequency). Each line's impedance is the
-closed form that sized its width (:meth:`~stackopt.search.problem.Problem.line_impedances`)
+closed form that sized its width (:meth:`~stackopt.search.lineroutes.LineWork.line_impedances`)
 on the perturbed cross-section at the etched width.
 """
 
@@ -278,8 +278,9 @@ def monte_carlo(problem: Problem, g: Geometry, widths: np.ndarray, model: str,
         The search problem (circuit, requirements, lines).
     g : Geometry
         The P candidates' nominal geometry.
-    widths : ndarray, shape (P, L)
-        Nominal controlled-impedance widths [m] (NaN: unreachable; spread NaN too).
+    widths : ndarray, shape (P, routes)
+        Nominal controlled-impedance widths [m] of every line on every layer
+        (:attr:`Problem.routes`; NaN: unreachable or absent, spread NaN too).
     model : str
         Via model of the ranking (the yield is under the model the search ranks by).
     draws : Draws

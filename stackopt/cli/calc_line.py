@@ -33,6 +33,8 @@ examples:
   stackopt calc line --type microstrip --height 7.5mil --er 4.2 --width 0.35mm --json
   stackopt calc line --type stripline --height 0.4mm --er 4.2 --copper 17um --target 50
   stackopt calc line --type stripline --height 0.5mm --offset 0.1mm --er 4.2 --target 50
+  stackopt calc line --type stripline --height 0.5mm --offset -0.05mm --er 4.6 \
+      --er-above 3.9 --width 0.12mm --solver field
   stackopt calc line --type cpwg --height 0.063in --er 4.5 --gap 0.2mm --target 50
   stackopt calc line --type diff-microstrip --height 0.1mm --er 4.2 --spacing 0.15mm \\
       --target-diff 100
@@ -43,8 +45,11 @@ examples:
 
 --height is the dielectric from the trace to its plane; for stripline types it is the
 plane-to-plane spacing, with the trace midway unless --offset moves its centre up (+) or
-down (-). Pairs: --width each trace, --spacing edge to edge; Zdiff = 2 Zodd, Zcommon =
-Zeven / 2; z0 is one trace of the pair alone. Closed forms: microstrip hammerstad-jensen
+down (-); --er-above gives the dielectric from the trace's bottom face to the upper plane
+its own Dk (a trace etched on a core under a prepreg of another Dk; the closed forms take
+the thickness-weighted mean Dk, the field solver both as they are). Pairs: --width each
+trace, --spacing edge to edge; Zdiff = 2 Zodd, Zcommon = Zeven / 2; z0 is one trace of the
+pair alone. Closed forms: microstrip hammerstad-jensen
 (default; Hammerstad & Jensen 1980), ipc-2141 (quick, several per cent off on thin
 dielectrics), wheeler (Wheeler 1977); stripline Cohn 1954 with Wheeler's 1978 thickness
 ratio; cpwg Ghione & Naldi 1984; diff-microstrip Kirschning & Jansen 1984; diff-stripline
@@ -85,6 +90,9 @@ def register(sub: argparse._SubParsersAction) -> None:
                    help="trace-to-plane dielectric; stripline types: plane-to-plane spacing")
     p.add_argument("--er", required=True, metavar="ER", type=_er,
                    help="relative permittivity of the dielectric (1 to 20)")
+    p.add_argument("--er-above", default=None, dest="er_above", metavar="ER", type=_er,
+                   help="stripline types: Dk from the trace's bottom face to the upper "
+                   "plane (default: --er)")
     p.add_argument("--copper", default=35e-6, metavar="LENGTH",
                    type=quantity("length", "--copper", positive=False, kind="copper"),
                    help="copper thickness, e.g. 35um or 1oz (default: 35 um)")
@@ -105,7 +113,8 @@ def register(sub: argparse._SubParsersAction) -> None:
                    help="cpwg only (required there): trace edge to coplanar ground copper")
     p.add_argument("--offset", metavar="LENGTH", type=quantity("length", "--offset",
                                                                positive=False),
-                   help="stripline types: trace centre above (+) or below (-) the midplane")
+                   help="stripline types: trace centre above (+) or below (-) the midplane; "
+                   "write a negative one as --offset=-0.1mm")
     p.add_argument("--model", default=None, metavar="MODEL",
                    type=choice(MICROSTRIP_MODELS, "model"),
                    help=f"microstrip only: {', '.join(MICROSTRIP_MODELS)} "
@@ -157,6 +166,9 @@ def _check(args: argparse.Namespace) -> None:
     if not strip and args.offset is not None:
         _fail(f"--offset applies to the stripline types, not {kind}", "--offset",
               "drop --offset")
+    if not strip and args.er_above is not None:
+        _fail(f"--er-above applies to the stripline types, not {kind}", "--er-above",
+              "drop --er-above (a solder mask over an outer line is --mask / --mask-er)")
     if args.mask > 0 and (strip or args.solver != "field"):
         _fail("a solder mask is modelled by the field solver on outer-layer lines only",
               "--mask", "add --solver field (microstrip, cpwg, diff-microstrip), or drop "
@@ -180,7 +192,8 @@ def _spec(args: argparse.Namespace):
     kind, t = args.line_type, args.copper
     if kind in STRIPLINE_TYPES:
         h = args.height / 2 + (args.offset or 0.0) - t / 2
-        return LineSpec(kind, h, args.er, t, h_above=args.height - h, s=args.spacing)
+        return LineSpec(kind, h, args.er, t, h_above=args.height - h, er_above=args.er_above,
+                        s=args.spacing)
     return LineSpec(kind, args.height, args.er, t, s=args.spacing, gap=args.gap,
                     mask_t=args.mask, mask_er=args.mask_er,
                     model=args.model or MICROSTRIP_MODELS[0])
@@ -241,7 +254,8 @@ def compute(args: argparse.Namespace) -> dict[str, Any]:
         "z_diff_ohm": get("z_diff"), "z_common_ohm": get("z_common"),
         "eps_eff": eps_line, "eps_odd": get("eps_odd"), "eps_even": get("eps_even"),
         "width_m": w, "spacing_m": args.spacing, "height_m": args.height,
-        "offset_m": args.offset, "er": args.er, "copper_m": args.copper, "gap_m": args.gap,
+        "offset_m": args.offset, "er": args.er, "er_above": args.er_above,
+        "copper_m": args.copper, "gap_m": args.gap,
         "mask_m": args.mask or None, "mask_er": args.mask_er if args.mask else None,
         "target_ohm": args.target, "target_diff_ohm": args.target_diff,
         "field_error": modes.get("error"),
@@ -272,8 +286,10 @@ def render(result: dict[str, Any]) -> str:
               format_quantity(result["height_m"], "length"))]
     if result["offset_m"]:
         rows.append(("offset", format_quantity(result["offset_m"], "length")))
-    rows += [("er", f"{result['er']:g}"), ("copper", format_quantity(result["copper_m"],
-                                                                      "length"))]
+    rows += [("er", f"{result['er']:g}")]
+    if result["er_above"] is not None:
+        rows.append(("er above", f"{result['er_above']:g} (trace face to upper plane)"))
+    rows += [("copper", format_quantity(result["copper_m"], "length"))]
     if result["gap_m"] is not None:
         rows.append(("gap", format_quantity(result["gap_m"], "length")))
     if result["mask_m"]:

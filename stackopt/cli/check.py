@@ -25,6 +25,7 @@ def register(sub: argparse._SubParsersAction) -> None:
 def run(args: argparse.Namespace) -> int:
     """Load, validate and describe."""
     from stackopt.circuit import compile_circuit
+    from stackopt.model.routing import layer_words
     from stackopt.outputs.circuit_echo import (
         ELEMENT_HEAD,
         GROUND_HEAD,
@@ -73,8 +74,11 @@ def run(args: argparse.Namespace) -> int:
         what = (f"{fq(ln.target, 'impedance')} differential, spacing "
                 f"{fq(ln.spacing, 'length')}" if ln.spacing is not None
                 else fq(ln.target, "impedance"))
-        where = ln.layer_rule if isinstance(ln.layer_rule, str) else f"L{ln.layer_rule + 1}"
-        say(f"line  {ln.name}: {ln.type} on the {where} layer, {what}{mw}")
+        j = sc.lines.index(ln)
+        on = [f"L{rt.layer + 1}" for rt in problem.routes if rt.line == j]
+        where = layer_words(ln.type, ln.layer_rule, "every")
+        say(f"line  {ln.name}: {ln.type} on {where} ({', '.join(on) or 'none offered'}), "
+            f"{what}{mw}")
     w = sc.space.thickness
     say("space  layers " + ", ".join(str(a.n_layers) + " " + a.name for a in sp.arrangements))
     if sp.constructions:

@@ -42,7 +42,7 @@ def run(args: argparse.Namespace) -> int:
 
     inp = load_inputs(args.scenario, args.costs, args.calibration)
     sf = load_selected(args.stackup)
-    problem = Problem(inp.scenario, inp.table)
+    problem = Problem(inp.scenario, inp.table, stacks=(sf.stackup.layer_stack,))
     ev = evaluate_stackup(problem, sf, args.stackup)
     from stackopt.circuit.grounds import (
         ground_breakdown,

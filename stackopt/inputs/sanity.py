@@ -86,6 +86,8 @@ SCENARIO_RULES: tuple[Rule, ...] = (
     Rule(("lines", "*", "max_width"), "trace_width", "a line width"),
     Rule(("lines", "*", "min_width"), "trace_width", "a line width"),
     Rule(("lines", "*", "gap"), "gap", "a coplanar gap"),
+    Rule(("solder_mask", "thickness"), "solder_mask"),
+    Rule(("solder_mask", "er"), "dk", "a solder mask Dk"),
     Rule(("space", "layers", "*"), "layers"),
     Rule(("space", "copper", "*"), "copper"),
     Rule(("space", "drills", "*"), "drill"),
@@ -114,6 +116,8 @@ COST_TABLE_RULES: tuple[Rule, ...] = (
     Rule(("capabilities", "standard_thicknesses", "*"), "board_thickness",
          "a standard board thickness"),
     Rule(("capabilities", "max_thickness"), "board_thickness", "a maximum board thickness"),
+    Rule(("solder_mask", "thickness"), "solder_mask"),
+    Rule(("solder_mask", "er"), "dk", "a solder mask Dk"),
 )
 
 #: Range rules of a stackup file (``eval --stackup``), on the file's own keys.

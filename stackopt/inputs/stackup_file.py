@@ -32,7 +32,7 @@ __all__ = ["SelectedStackup", "load_selected_yaml", "load_selected", "parse_sele
 _TOP = ("format", "note", "scenario", "candidate", "meets_requirements", "fab_table",
         "finished_thickness", "thickness_tolerance", "drill", "vias_per_ground",
         "mitigations", "unit_cost", "currency", "margin_dB", "layers",
-        "controlled_impedance")
+        "controlled_impedance", "solder_mask")
 _COPPER = ("name", "kind", "role", "thickness", "copper_weight")
 _DIELECTRIC = ("kind", "material", "plies", "thickness", "dk", "df")
 

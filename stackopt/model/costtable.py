@@ -32,7 +32,7 @@ from stackopt.model.fields import (
 __all__ = [
     "TableRuleError", "Price", "Panel", "BasePrice", "Prepreg", "Core", "Materials",
     "CopperAdder", "DrillAdder", "FeatureAdder", "Features", "Capabilities", "CostTable",
-    "CatalogueItem", "BoardOrder", "FEATURES",
+    "CatalogueItem", "BoardOrder", "FEATURES", "SolderMask",
 ]
 
 #: The optional features a table may price, in breakdown order.
@@ -233,6 +233,16 @@ class Features(BaseModel):
     non_standard_thickness: FeatureAdder | None = None
 
 
+class SolderMask(BaseModel):
+    """Solder mask over the outer layers: cured thickness over a trace and Dk. The field
+    solver puts it over outer-layer lines; the closed forms ignore it. A cost table gives
+    the fab's mask; a scenario's ``solder_mask`` overrides it."""
+
+    model_config = FROZEN
+    thickness: PositiveLength = Field(20e-6, description="over the trace, m")
+    er: float = Field(3.5, ge=1.0, le=20.0, description="relative permittivity")
+
+
 class Capabilities(BaseModel):
     """What the fab can build. The maximum layer count is the largest priced row."""
 
@@ -283,6 +293,9 @@ class CostTable(BaseModel):
     capabilities: Capabilities
     constructions: tuple[Construction, ...] = Field(
         default=(), description="standard builds a scenario may restrict the search to")
+    solder_mask: SolderMask | None = Field(
+        None, description="the fab's mask over the outer layers (field-solver check of "
+        "the lines); a scenario's solder_mask overrides it")
 
     @field_validator("currency")
     @classmethod

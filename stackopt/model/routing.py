@@ -1,23 +1,34 @@
-r"""Which copper layer carries each controlled-impedance line, and the cross-section it sees.
+r"""Which copper layers carry each controlled-impedance line, and the cross-section it sees.
 
 Vectorized over N stackups (a :class:`~stackopt.model.geometry.LayerStack`, the one owner
 of heights). A line's layer rule (:attr:`stackopt.model.scenario.ControlledLine.layer_rule`)
-is ``"outer"`` (the top layer, the component side), ``"inner"`` (the shallowest inner
-signal layer with a plane on each side) or a 0-based layer index. The layer must carry
-signals (role ``signal`` or ``mixed``) and suit the type: the outer types (microstrip,
-cpwg, diff-microstrip) need an outer layer with a plane on its inner side, the stripline
-types an inner layer with a plane on each side. Where no layer qualifies the index is -1
-(the search turns that into the named violation ``line_<name>_no_layer`` for those
-stackups only, e.g. a stripline on a two-layer board or ``L5`` on a four-layer one).
+is ``"outer"`` (every outer layer where the type applies), ``"inner"`` (every inner signal
+layer with a plane on each side) or a 0-based layer index; a line without ``layer`` takes
+the keyword of its type, so by default it runs on every signal layer where its type
+applies. The layer must carry signals (role ``signal`` or ``mixed``) and suit the type:
+the outer types (microstrip, cpwg, diff-microstrip) need an outer layer with a plane on
+its inner side, the stripline types an inner layer with a plane on each side.
+
+A **route** is one line on one copper layer (:class:`Route`, named ``<line>@L<k>`` by
+:func:`route_name`, the one owner of that name): the search sizes a width per route and
+candidate, with its own constraints. The routes of a search are every (line, layer) that
+some board of its space offers (:func:`line_routes`); on a stackup where a route's layer
+does not suit the line (``L4`` of a six-layer board for an outer-layer type, ``L6`` of a
+four-layer board) the route is simply absent (layer -1, no width, no violation). Where no
+layer of a stackup suits a line at all the search names the violation
+``line_<name>_no_layer`` for those stackups only (a stripline on a two-layer board, ``L5``
+on a four-layer one).
 
 The cross-section follows :mod:`stackopt.physics.linetypes`: ``h`` from the trace's face
 to its (lower) reference plane, ``er`` that dielectric's Dk (thickness-weighted mean
 where several lie between); for stripline also ``h_above`` from the trace's other face
-to the second plane plus the copper (the trace sits in that dielectric) and its Dk.
+to the second plane plus the copper (the trace sits in that dielectric) and its Dk. On the
+bottom layer "lower" is read towards the board's inside (the plane above it).
 """
 
 from __future__ import annotations
 
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -25,13 +36,15 @@ import numpy as np
 from stackopt.model.geometry import ROLES, LayerStack
 from stackopt.physics.linetypes import STRIPLINE_TYPES
 
-__all__ = ["LineSection", "line_layer", "line_section", "line_slots"]
+__all__ = ["LineSection", "Route", "line_layers", "line_routes", "line_section", "line_slots",
+           "layer_words", "route_layer", "route_name"]
 
 _SIGNAL = np.array([ROLES.index("signal"), ROLES.index("mixed")])
 
 
-def line_layer(stack: LayerStack, line_type: str, rule: str | int) -> np.ndarray:
-    """0-based copper layer of the line on each stackup, (N,) int; -1 where none fits."""
+def line_layers(stack: LayerStack, line_type: str, rule: str | int) -> np.ndarray:
+    """Copper layers that may carry a line of ``line_type`` under layer rule ``rule`` on
+    each stackup, (N, L) bool (L: copper layers of the batch)."""
     n_cu = stack.role.shape[1]
     k = np.broadcast_to(np.arange(n_cu), stack.role.shape)
     tg = stack.trace(k)
@@ -40,16 +53,62 @@ def line_layer(stack: LayerStack, line_type: str, rule: str | int) -> np.ndarray
     if line_type in STRIPLINE_TYPES:
         ok = signal & (tg.plane_above >= 0) & (tg.plane_below >= 0) & (k > 0) & (k < last)
     else:
-        ok = signal & (((k == 0) & (tg.plane_below >= 0)) | ((k == last) & (tg.plane_above
-                                                                          >= 0)))
-    if rule == "outer":
-        return np.where(ok[:, 0], 0, -1)
-    if rule == "inner":
-        return np.where(ok.any(axis=1), np.argmax(ok, axis=1), -1)
-    idx = int(rule)
-    if idx >= n_cu:
-        return np.full(len(stack), -1)
-    return np.where(ok[:, idx], idx, -1)
+        ok = signal & (((k == 0) & (tg.plane_below >= 0))
+                       | ((k == last) & (k > 0) & (tg.plane_above >= 0)))
+    if isinstance(rule, str):  # "outer" / "inner": the type already restricts the side
+        return ok
+    return ok & (k == int(rule))
+
+
+def route_layer(stack: LayerStack, line_type: str, rule: str | int,
+                layer: int) -> np.ndarray:
+    """``layer`` (0-based) where a line of ``line_type`` under ``rule`` may run on it,
+    else -1; (N,) int."""
+    ok = line_layers(stack, line_type, rule)
+    if layer >= ok.shape[1]:
+        return np.full(len(stack), -1, dtype=np.int64)
+    return np.where(ok[:, layer], layer, -1).astype(np.int64)
+
+
+def layer_words(line_type: str, rule: str | int, article: str = "an") -> str:
+    """Where a line of ``line_type`` under layer rule ``rule`` may run, in words (the one
+    wording of the report, the console and the violation sentences): ``layer L3``, or
+    ``<article> inner signal layer between two planes`` / ``... outer signal layer over a
+    plane``."""
+    if not isinstance(rule, str):
+        return f"layer L{int(rule) + 1}"
+    if line_type in STRIPLINE_TYPES:
+        return f"{article} inner signal layer between two planes"
+    return f"{article} outer signal layer over a plane"
+
+
+def route_name(line: str, layer: int) -> str:
+    """The name of line ``line`` on 0-based copper ``layer``: ``rf50@L1``."""
+    return f"{line}@L{layer + 1}"
+
+
+@dataclass(frozen=True)
+class Route:
+    """One controlled-impedance line on one copper layer: ``line`` indexes the scenario's
+    lines, ``layer`` is 0-based, ``name`` is :func:`route_name` of the two."""
+
+    line: int
+    layer: int
+    name: str
+
+
+def line_routes(lines: Sequence, stacks: Iterable[LayerStack]) -> tuple[Route, ...]:
+    """Every (line, layer) that some stackup of ``stacks`` offers, by line then layer;
+    ``lines`` are the scenario's (each with ``name``, ``type`` and ``layer_rule``)."""
+    stacks = list(stacks)
+    out = []
+    for j, ln in enumerate(lines):  # a handful of lines
+        offered: set[int] = set()
+        for st in stacks:  # a handful of arrangements
+            offered.update(np.flatnonzero(line_layers(st, ln.type,
+                                                      ln.layer_rule).any(axis=0)).tolist())
+        out += [Route(j, k, route_name(ln.name, k)) for k in sorted(offered)]
+    return tuple(out)
 
 
 @dataclass(frozen=True)

@@ -10,6 +10,7 @@ from __future__ import annotations
 from pydantic import BaseModel, Field, field_validator, model_validator
 
 from stackopt.model.circuit import Circuit
+from stackopt.model.costtable import SolderMask
 from stackopt.model.fields import (
     FROZEN,
     Count,
@@ -142,10 +143,12 @@ class ControlledLine(BaseModel):
     """A controlled-impedance line that every candidate must carry with a manufacturable
     width: single-ended (``impedance``) or an edge-coupled pair (``differential``, the
     target Zdiff = 2 Zodd, with the pair's edge-to-edge ``spacing``; the width is
-    synthesized for that spacing), on a layer: ``outer`` (the top layer), ``inner`` (the
-    shallowest inner signal layer with a plane on each side) or a layer name ``L1``,
-    ``L3``, ...; default ``outer`` for microstrip, cpwg and diff-microstrip and ``inner``
-    for the stripline types (:data:`stackopt.physics.linetypes.LINE_TYPES`)."""
+    synthesized for that spacing), on layers: ``outer`` (every outer signal layer over a
+    plane), ``inner`` (every inner signal layer with a plane on each side) or one layer
+    name ``L1``, ``L3``, ...; default: every signal layer where the type applies (the outer
+    ones for microstrip, cpwg and diff-microstrip, the inner ones for the stripline types;
+    :data:`stackopt.physics.linetypes.LINE_TYPES`). Each layer gets its own width and
+    constraints, named ``<name>@L<k>`` (:mod:`stackopt.model.routing`)."""
 
     model_config = FROZEN
     name: str = Field(min_length=1, max_length=100)
@@ -167,6 +170,9 @@ class ControlledLine(BaseModel):
     @model_validator(mode="after")
     def _check(self) -> ControlledLine:
         pair, strip = self.type in PAIR_TYPES, self.type in STRIPLINE_TYPES
+        if "@" in self.name:
+            raise ValueError(f"line name {self.name!r} contains '@', which joins a line to "
+                             "its layer in the outputs (rf50@L1); rename it")
         if pair and self.differential is None:
             raise ValueError(f"a {self.type} pair needs 'differential' (its target Zdiff, "
                              "e.g. 90 ohm) and 'spacing'")
@@ -212,14 +218,6 @@ class ControlledLine(BaseModel):
                          "such as L1 or L3")
 
 
-class SolderMask(BaseModel):
-    """Solder mask over the outer layers (field solver only: the closed forms ignore it)."""
-
-    model_config = FROZEN
-    thickness: PositiveLength = 20e-6
-    er: float = Field(3.5, ge=1.0, le=20.0, description="relative permittivity")
-
-
 #: Said beside a passband taken from a generated filter's cutoff (not stated).
 DESIGN_BAND_NOTE = ("the generated filter's design band; state 'passband' for the band the "
                     "signal uses")
@@ -237,8 +235,9 @@ class Scenario(BaseModel):
     circuit: Circuit
     requirements: tuple[Requirement, ...] = ()
     lines: tuple[ControlledLine, ...] = ()
-    solder_mask: SolderMask | None = Field(None, description="over the outer layers; used "
-                                           "by the field-solver check of the lines")
+    solder_mask: SolderMask | None = Field(
+        None, description="over the outer layers, for the field-solver check of the lines; "
+        "overrides the cost table's")
     space: SpaceSpec = SpaceSpec()
     search: SearchSpec = SearchSpec()
     passband: tuple[Frequency, Frequency] | None = Field(

@@ -137,6 +137,7 @@ def selected_document(result: Result, i: int | None = None) -> dict:
                            "plies": int(r["plies"]), "thickness": _q(t, "mm", 1e-3),
                            "dk": round(float(r["er"]), 4), "df": round(float(r["df"]), 5)})
     lines = []
+    mask = result.problem.solder_mask
     for r in result.lines(i):
         w = r.width_field_m if r.width_field_m is not None else r.width_m
         entry = {"name": r.name, "type": r.type, "layer": r.layer,
@@ -169,6 +170,8 @@ def selected_document(result: Result, i: int | None = None) -> dict:
         "margin_dB": _round(rec["margin_dB"], 4),
         "layers": layers,
         "controlled_impedance": lines,
+        **({"solder_mask": {"thickness": _q(mask.thickness, "um", 1e-6, 3), "dk": mask.er}}
+           if mask is not None else {}),
     }
 
 

@@ -146,8 +146,13 @@ def _limit(problem, code: str) -> float | None:
 
 
 def _line(problem, code: str):
+    """(scenario line, name in the code, route index or None) of a line code: the route's
+    ``rf50@L1`` for a width constraint, the line's ``rf50`` for ``no_layer``."""
     name = _LINE_CODE.fullmatch(code).group(1)  # type: ignore[union-attr]
-    return next(ln for ln in problem.scenario.lines if ln.name == name), name
+    for r, rt in enumerate(problem.routes):
+        if rt.name == name:
+            return problem.scenario.lines[rt.line], name, r
+    return next(ln for ln in problem.scenario.lines if ln.name == name), name, None
 
 
 def figures(problem, ev, i: int, code: str, amount: float) -> dict[str, str]:
@@ -177,22 +182,22 @@ def figures(problem, ev, i: int, code: str, amount: float) -> dict[str, str]:
         return {"value": fq(t, "length"), "by": by,
                 "limit": f"{fq(lo, 'length')} to {fq(hi, 'length')}"}
     if fam.startswith("line_"):
-        ln, name = _line(problem, code)
+        ln, name, r = _line(problem, code)
         pair = getattr(ln, "differential", None) is not None
         z = getattr(ln, "differential", None) if pair else ln.impedance
         out = {"name": name, "z": f"{z:g} ohm" + (" differential" if pair else "")}
         if fam in ("line_too_wide", "line_too_narrow"):
             lim = ln.max_width if fam == "line_too_wide" else ln.min_width
-            j = [x.name for x in problem.scenario.lines].index(name)
-            w = (float(ev.widths[i, j]) if ev is not None
+            w = (float(ev.widths[i, r]) if ev is not None
                  else lim * (1 + amount if fam == "line_too_wide" else 1 - amount))
             out.update(value=fq(w, "length"), limit=fq(lim, "length"),
                        by=fq(abs(w - lim), "length"))
         elif fam == "line_no_layer":
-            out["limit"] = (f"layer {ln.layer}" if getattr(ln, "layer", None)
-                            else "its default layer")
+            from stackopt.model.routing import layer_words
+
+            out["limit"] = layer_words(ln.type, ln.layer_rule)
         else:
-            from stackopt.search.problem import WIDTH_RANGE
+            from stackopt.search.lineroutes import WIDTH_RANGE
 
             out["limit"] = f"{fq(WIDTH_RANGE[0], 'length')} and {fq(WIDTH_RANGE[1], 'length')}"
         return out

@@ -6,6 +6,7 @@ from __future__ import annotations
 import math
 from typing import TYPE_CHECKING
 
+from stackopt.model.routing import layer_words
 from stackopt.outputs.facts import mm
 
 if TYPE_CHECKING:
@@ -37,7 +38,7 @@ def layer_lines(rows) -> dict[str, list[str]]:
     for r in rows:
         if r.layer is None:
             continue
-        text = f"{r.name}: {_target(r)} {r.type}, {_width(r)}"
+        text = f"{r.line}: {_target(r)} {r.type}, {_width(r)}"
         if r.spacing_m is not None:
             text += f" / {mm(r.spacing_m)} space"
         out.setdefault(r.layer, []).append(text)
@@ -57,7 +58,7 @@ def impedance_table(result: Result, i: int | None) -> list[tuple]:
                      "—" if r.spacing_m is None else mm(r.spacing_m),
                      "—" if r.width_m is None else mm(r.width_m), _ohm(r.z_ohm),
                      _ohm(r.z_field_ohm), diff])
-    mask = result.problem.scenario.solder_mask
+    mask = result.problem.solder_mask
     note = ("Width: by the built-in 2-D field solver (quasi-static, about 0.5 % or better; "
             "docs/models.md), started from the closed-form width the search used; the last "
             "three columns are the impedance at that closed-form width, by closed form and "
@@ -77,10 +78,10 @@ def line_risks(result: Result, i: int, what: str) -> list[str]:
     for r in result.lines(i, check=False):
         name = f"the {_target(r)} line '{r.name}'"
         if r.layer is None:
-            need = ("an inner signal layer between two planes" if "strip" in r.type
-                    else "an outer signal layer over a plane")
+            ln = next(x for x in result.problem.scenario.lines if x.name == r.line)
+            need = layer_words(ln.type, ln.layer_rule)
             out.append(f"On the {what} board ({result.ids[i]}) no layer can carry {name} "
-                       f"(a {r.type} needs {need}).")
+                       f"(it needs {need}).")
         elif r.width_m is None or not math.isfinite(r.width_m):
             out.append(f"On the {what} board ({result.ids[i]}) {name} on {r.layer} cannot "
                        "reach its impedance within the width range searched.")

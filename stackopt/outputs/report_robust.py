@@ -56,17 +56,18 @@ def robustness_section(result: Result) -> list[tuple]:
     if not result.robust:
         return []
     rb = result.problem.scenario.search.robustness
-    lines = result.problem.scenario.lines
+    routes = result.problem.routes
     rows = []
     for i, names in unique_picks(result):
         v = [float(a[i]) for a in result.spread.values() if math.isfinite(a[i])]
         spread = f"{max(v) - min(v):.1f} dB" if v else "n/a"
         y = None if result.yields is None else float(result.yields[i])
         z = ""
-        if result.impedance_range is not None and lines:
-            z = "; ".join(f"{ln.name} {result.impedance_range[i, j, 0]:.1f}-"
-                          f"{result.impedance_range[i, j, 1]:.1f} ohm"
-                          for j, ln in enumerate(lines))
+        if result.impedance_range is not None and routes:
+            z = "; ".join(f"{rt.name} {result.impedance_range[i, r, 0]:.1f}-"
+                          f"{result.impedance_range[i, r, 1]:.1f} ohm"
+                          for r, rt in enumerate(routes)
+                          if all(map(math.isfinite, result.impedance_range[i, r])))
         rows.append([" / ".join(PICKS[n].report for n in names), result.ids[i],
                      margin_cell(result, i), db(result.robust_margin[i], sign=True), spread,
                      percent(y), z or "-"])

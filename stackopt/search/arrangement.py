@@ -72,12 +72,11 @@ class Arrangement:
 
     def with_lines(self, lines) -> Arrangement:
         """A copy with the slots that set the scenario ``lines`` marked."""
-        from stackopt.model.routing import line_layer, line_slots
+        from stackopt.model.routing import line_routes, line_slots
 
-        st = self.stack()
         slots: set[int] = set()
-        for ln in lines:  # a handful of lines
-            slots |= line_slots(st, int(line_layer(st, ln.type, ln.layer_rule)[0]))
+        for route in line_routes(lines, [self.stack()]):  # a handful of routes
+            slots |= line_slots(self.stack(), route.layer)
         return replace(self, line_slots=frozenset(slots))
 
 

@@ -9,7 +9,6 @@ candidate is priced.
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from dataclasses import dataclass, field
 from functools import cached_property
 
@@ -20,19 +19,17 @@ from stackopt.circuit.grounds import DEFAULT_POUR_GAP
 from stackopt.circuit.metrics import attenuation_db
 from stackopt.cost import PriceBatch, price
 from stackopt.model.costtable import BoardOrder, CostTable
-from stackopt.model.routing import line_layer, line_section
+from stackopt.model.geometry import LayerStack
 from stackopt.model.scenario import Scenario
-from stackopt.physics.linetypes import STRIPLINE_TYPES, LineSpec, line_width, sized_impedance
+from stackopt.search.lineroutes import LineWork
 from stackopt.search.memo import ResponseMemo
-from stackopt.search.phenotype import LineBatch, batch_key, unique_rows
+from stackopt.search.phenotype import batch_key, unique_rows
 from stackopt.search.space import Candidates, DielectricOptions, Geometry, Space
 
 __all__ = ["Problem", "Evaluation", "dielectric_options", "min_trace"]
 
 #: Phenotypes solved per circuit call (bounds memory; not a loop over candidates).
 PHENOTYPE_CHUNK = 4096
-#: Width range searched when synthesizing controlled-impedance traces, m.
-WIDTH_RANGE = (20e-6, 10e-3)
 
 
 def dielectric_options(table: CostTable, max_plies: int) -> dict[str, DielectricOptions]:
@@ -84,7 +81,8 @@ class Evaluation:
     attenuation_f: np.ndarray  # (N, F) dB at every sampled frequency (Problem.freqs)
     margin: np.ndarray  # (N,) dB, min over requirements of attenuation - required
     inductance: np.ndarray  # (N,) H, sum of the ground connections' self inductance
-    widths: np.ndarray  # (N, lines) m, NaN where no width reaches the target
+    widths: np.ndarray  # (N, routes) m, NaN where no width reaches the target or no layer
+    line_layers: np.ndarray  # (N, routes) 0-based copper layer of each route; -1: absent
     violations: dict[str, np.ndarray]  # name -> (N,) >= 0
     geometry: Geometry
     cost_items: dict[str, np.ndarray]  # itemised unit cost, items sum to unit_cost
@@ -103,13 +101,16 @@ class Evaluation:
 
 
 @dataclass(frozen=True, eq=False)
-class Problem:
+class Problem(LineWork):
     """A scenario priced by one fab; ``memo`` (optional) shares solved responses with
-    other problems of the same circuit (other quantities, other fabs)."""
+    other problems of the same circuit (other quantities, other fabs); ``stacks``
+    (optional) are stackups from outside the space (``stackopt eval``) whose layers the
+    :attr:`routes` cover too."""
 
     scenario: Scenario
     table: CostTable
     memo: ResponseMemo | None = field(default=None, compare=False)
+    stacks: tuple[LayerStack, ...] = field(default=(), compare=False)
 
     @cached_property
     def space(self) -> Space:
@@ -200,39 +201,10 @@ class Problem:
             return {}
         return {"line_height": g.trace_height, "line_er": g.trace_er}
 
-    def line_batch(self, g: Geometry, line: int) -> LineBatch:
-        """What the width synthesis of scenario line ``line`` receives for a batch: the
-        cross-section on its layer (:mod:`stackopt.model.routing`). The coplanar ground
-        pour (mitigation) turns a single-ended top-layer microstrip into a cpwg."""
-        ln = self.scenario.lines[line]
-        layer = line_layer(g.stack, ln.type, ln.layer_rule)
-        sec = line_section(g.stack, layer, ln.type)
-        cop = g.flags.get("coplanar", np.zeros(len(g), dtype=bool))
-        cop = (cop & (layer == 0) & (ln.type == "microstrip")) | (ln.type == "cpwg")
-        return LineBatch(height=np.nan_to_num(sec.h), er=np.nan_to_num(sec.er),
-                         copper=np.nan_to_num(sec.t), coplanar=cop & (layer >= 0),
-                         height_above=np.nan_to_num(sec.h_above),
-                         er_above=np.nan_to_num(sec.er_above), layer=layer)
-
-    def line_spec(self, line: int, lb: LineBatch) -> LineSpec:
-        """The :class:`~stackopt.physics.linetypes.LineSpec` of scenario line ``line`` on
-        the cross-sections of ``lb`` (arrays; a coplanar pour makes it a cpwg)."""
-        ln = self.scenario.lines[line]
-        strip = ln.type in STRIPLINE_TYPES
-        kind = "cpwg" if bool(np.all(lb.coplanar)) and not ln.type.startswith("diff") \
-            else ln.type
-        gap = (ln.gap if ln.gap is not None else self.pour_gap) if kind == "cpwg" else None
-        mask = self.scenario.solder_mask
-        return LineSpec(kind, lb.height, lb.er, lb.copper,
-                        h_above=lb.height_above if strip else None,
-                        er_above=lb.er_above if strip else None, s=ln.spacing, gap=gap,
-                        mask_t=mask.thickness if (mask and not strip) else 0.0,
-                        mask_er=mask.er if mask else 3.5)
-
     def phenotype(self, g: Geometry) -> np.ndarray:
         """The electrical phenotype key, one int row per candidate: every field of the
         ground batch and of every line's batch, quantized (:mod:`stackopt.search.phenotype`)."""
-        lines = [self.line_batch(g, j) for j in range(len(self.scenario.lines))]
+        lines = [self.line_batch(g, r) for r in range(len(self.routes))]
         return batch_key(self.ground_batch(g), *lines)
 
     def response(self, g: Geometry, model: str | None = None) -> tuple[np.ndarray, np.ndarray]:
@@ -288,67 +260,7 @@ class Problem:
             cols.append(ev.lead_time_days.astype(float))
         return np.column_stack(cols)
 
-    def line_widths(self, g: Geometry) -> np.ndarray:
-        """Width of every controlled-impedance line on each candidate (NaN: unreachable or
-        no layer for it), synthesized by closed form once per distinct
-        :class:`~stackopt.search.phenotype.LineBatch` row (the field solver refines the
-        picks' widths afterwards: :mod:`stackopt.analyses.lines`)."""
-        lines = self.scenario.lines
-        out = np.full((len(g), len(lines)), np.nan)
-        for j, ln in enumerate(lines):  # a handful of lines
-            lb = self.line_batch(g, j)
-            first, inv = unique_rows(batch_key(lb))
-
-            def size(spec: LineSpec, rows: np.ndarray, target: float = ln.target
-                     ) -> np.ndarray:
-                w, ok = line_width(spec, target, *WIDTH_RANGE)
-                return np.where(ok, w, np.nan)
-
-            out[:, j] = self._per_kind(j, lb.take(first), size)[inv]
-        return out
-
-    def line_impedances(self, g: Geometry, widths: np.ndarray) -> np.ndarray:
-        """Impedance [ohm] (N, lines) of every controlled-impedance line at ``widths`` [m]
-        (N, lines) on each candidate's cross-section: Z0, or Z_diff for a pair, by the
-        closed form that sizes it (:func:`~stackopt.physics.linetypes.sized_impedance`);
-        NaN where the line has no layer or no width."""
-        out = np.full((len(g), len(self.scenario.lines)), np.nan)
-        for j in range(len(self.scenario.lines)):  # a handful of lines
-            col = widths[:, j]
-
-            def z(spec: LineSpec, rows: np.ndarray, col: np.ndarray = col) -> np.ndarray:
-                return sized_impedance(spec, col[rows])
-
-            out[:, j] = self._per_kind(j, self.line_batch(g, j), z)
-        return out
-
-    def _per_kind(self, line: int, lb: LineBatch,
-                  fn: Callable[[LineSpec, np.ndarray], np.ndarray]) -> np.ndarray:
-        """``fn(spec, rows)`` on the rows of ``lb`` where line ``line`` has a layer, one
-        call per line kind (a coplanar pour makes a microstrip a cpwg); NaN elsewhere."""
-        out = np.full(len(lb.layer), np.nan)
-        for cpw in (False, True):
-            rows = np.flatnonzero((lb.coplanar == cpw) & (lb.layer >= 0))
-            if len(rows):
-                out[rows] = fn(self.line_spec(line, lb.take(rows)), rows)
-        return out
-
     # ---- everything ------------------------------------------------------------------
-    def line_layers(self, g: Geometry) -> np.ndarray:
-        """Copper layer (0-based) of every line on each candidate, (N, lines); -1: none."""
-        cols = [line_layer(g.stack, ln.type, ln.layer_rule) for ln in self.scenario.lines]
-        return np.column_stack(cols) if cols else np.zeros((len(g), 0), dtype=np.int64)
-
-    def min_space(self, layers: np.ndarray) -> np.ndarray:
-        """Narrowest copper-to-copper space the lines need on each candidate, m (N,): the
-        spacing of every pair and the gap of every cpwg line that has a layer there; NaN
-        where none."""
-        sp = np.array([ln.spacing if ln.spacing is not None else
-                       (ln.gap or self.pour_gap) if ln.type == "cpwg" else np.inf
-                       for ln in self.scenario.lines])
-        m = np.where(layers >= 0, sp[None, :], np.inf).min(axis=1, initial=np.inf)
-        return np.where(np.isfinite(m), m, np.nan)
-
     def price_batch(self, g: Geometry, min_trace: np.ndarray,
                     min_space: np.ndarray | float = np.nan) -> PriceBatch:
         """What the fab prices for a batch."""
@@ -380,20 +292,12 @@ class Problem:
             lo, hi = win.bounds
             viol["thickness_window"] = np.maximum(lo - g.thickness, 0) / lo + np.maximum(
                 g.thickness - hi, 0) / hi
-        for j, ln in enumerate(self.scenario.lines):
-            has = layers[:, j] >= 0
-            w = np.nan_to_num(widths[:, j], nan=0.0)
-            viol[f"line_{ln.name}_no_layer"] = (~has).astype(float)
-            viol[f"line_{ln.name}_unreachable"] = (has & np.isnan(widths[:, j])).astype(float)
-            if ln.max_width is not None:
-                viol[f"line_{ln.name}_too_wide"] = np.maximum(w - ln.max_width, 0) / ln.max_width
-            if ln.min_width is not None:
-                viol[f"line_{ln.name}_too_narrow"] = np.where(
-                    w > 0, np.maximum(ln.min_width - w, 0) / ln.min_width, 0.0)
+        viol.update(self.line_violations(widths, layers))
         viol["circuit_nonfinite"] = (~np.isfinite(margin)).astype(float)
         margin = np.nan_to_num(margin, nan=-999.0, posinf=999.0, neginf=-999.0)
         return Evaluation(unit_cost=pr.unit_cost, lot_cost=pr.lot_cost,
                           lead_time_days=pr.lead_time_days, attenuation=att,
                           attenuation_f=att_f, margin=margin,
-                          inductance=lsum, widths=widths, violations=viol, geometry=g,
+                          inductance=lsum, widths=widths, line_layers=layers,
+                          violations=viol, geometry=g,
                           cost_items=dict(pr.items))

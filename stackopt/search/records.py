@@ -51,7 +51,8 @@ def metrics_record(problem: Problem, ev: Evaluation, i: int) -> dict[str, Any]:
         "attenuation_dB": {r.key: json_number(ev.attenuation[i, k])
                            for k, r in enumerate(sc.requirements)},
         "ground_inductance_H": json_number(ev.inductance[i]),
-        "line_widths_m": {ln.name: json_number(ev.widths[i, j]) for j, ln in enumerate(sc.lines)},
+        "line_widths_m": {rt.name: json_number(ev.widths[i, r])
+                          for r, rt in enumerate(problem.routes) if ev.line_layers[i, r] >= 0},
     }
 
 
@@ -85,8 +86,10 @@ def candidate_record(result: Result, i: int, check_lines: bool = False) -> dict:
         "vias_per_ground": int(desc["vias"]),
         "mitigations": [m for m in result.problem.space.mitigations if desc[m]],
         **met,
-        "line_spacings_m": {ln.name: ln.spacing for ln in sc.lines
-                            if ln.spacing is not None},
+        "line_spacings_m": {rt.name: sc.lines[rt.line].spacing
+                            for r, rt in enumerate(result.problem.routes)
+                            if sc.lines[rt.line].spacing is not None
+                            and ev.line_layers[i, r] >= 0},
         "lines": [r.to_summary() for r in result.lines(i, check_lines)],
         "stackup": layers,
     }
@@ -104,9 +107,9 @@ def candidate_record(result: Result, i: int, check_lines: bool = False) -> dict:
         out["yield_standard_error"] = math.sqrt(p * (1 - p) / n_builds)
         if result.impedance_range is not None:
             out["impedance_range_ohm"] = {
-                ln.name: [json_number(result.impedance_range[i, j, 0]),
-                          json_number(result.impedance_range[i, j, 1])]
-                for j, ln in enumerate(result.problem.scenario.lines)}
+                rt.name: [json_number(result.impedance_range[i, r, 0]),
+                          json_number(result.impedance_range[i, r, 1])]
+                for r, rt in enumerate(result.problem.routes) if ev.line_layers[i, r] >= 0}
     return out
 
 
@@ -146,8 +149,8 @@ def candidate_frame(result: Result, rows: np.ndarray | None = None) -> pd.DataFr
     })
     for k, r in enumerate(sc.requirements):
         cols[f"attenuation_dB_{r.key}Hz"] = ev.attenuation[rows, k]
-    for j, ln in enumerate(sc.lines):
-        cols[f"width_{ln.name}_m"] = ev.widths[rows, j]
+    for r, rt in enumerate(result.problem.routes):
+        cols[f"width_{rt.name}_m"] = ev.widths[rows, r]
     cols["feasible"] = result.feasible[rows]
     cols["meets_requirements"] = result.meets[rows]
     cols["violations"] = _violation_text(result, rows)
