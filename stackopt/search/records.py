@@ -149,8 +149,8 @@ def candidate_frame(result: Result, rows: np.ndarray | None = None) -> pd.DataFr
     })
     for k, r in enumerate(sc.requirements):
         cols[f"attenuation_dB_{r.key}Hz"] = ev.attenuation[rows, k]
-    for r, rt in enumerate(result.problem.routes):
-        cols[f"width_{rt.name}_m"] = ev.widths[rows, r]
+    for col, rt in enumerate(result.problem.routes):
+        cols[f"width_{rt.name}_m"] = ev.widths[rows, col]
     cols["feasible"] = result.feasible[rows]
     cols["meets_requirements"] = result.meets[rows]
     cols["violations"] = _violation_text(result, rows)
