@@ -227,3 +227,17 @@ def test_exact_search_is_exact_with_a_bottom_layer_line():
     r = optimize(sc, TABLE, method="exact")
     brute, n = brute_front(sc)
     assert front_points(r) == brute and r.evaluated < n
+
+
+def test_named_inner_layer_missing_on_some_counts_is_a_violation_there_only():
+    # 'L3' exists on every board of (4, 6) but is a plane on the four-layer ones: those
+    # candidates get line_s_no_layer, the six-layer ones carry the line on L3
+    sc = scenario(layers=(4, 6), lines=(
+        {"name": "s", "type": "stripline", "layer": "L3", "impedance": "50 ohm"},))
+    p = Problem(sc, TABLE)
+    assert [rt.name for rt in p.routes] == ["s@L3"]
+    ev = p.evaluate(enumerate_all(p.space))
+    four = ev.geometry.layers == 4
+    assert (ev.violations["line_s_no_layer"][four] > 0).all()
+    assert not (ev.violations["line_s_no_layer"][~four] > 0).any()
+    assert np.isfinite(ev.widths[~four, 0]).all()

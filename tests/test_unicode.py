@@ -57,7 +57,8 @@ def test_non_ascii_scenario_name_reaches_every_output(tmp_path, capsys, script):
     assert name in html.unescape(texts["report.html"].decode("utf-8"))
     sel = yaml.safe_load(texts["selected.yaml"].decode("utf-8"))
     assert sel["scenario"] == name
-    assert name[:12] in [ln["name"] for ln in sel["controlled_impedance"]]
+    assert name[:12] in [ln["line"] for ln in sel["controlled_impedance"]]
+    assert f"{name[:12]}@L1" in [ln["name"] for ln in sel["controlled_impedance"]]
     s2p = texts["selected.s2p"]
     assert s2p.isascii() and ascii_comment(name).encode() in s2p
 

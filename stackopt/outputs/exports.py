@@ -140,7 +140,7 @@ def selected_document(result: Result, i: int | None = None) -> dict:
     mask = result.problem.solder_mask
     for r in result.lines(i):
         w = r.width_field_m if r.width_field_m is not None else r.width_m
-        entry = {"name": r.name, "type": r.type, "layer": r.layer,
+        entry = {"name": r.name, "line": r.line, "type": r.type, "layer": r.layer,
                  ("differential" if r.differential else "impedance"):
                  f"{r.target_ohm:g} ohm",
                  "width": None if w is None else _q(w, "mm", 1e-3, 4)}

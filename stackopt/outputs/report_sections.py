@@ -190,8 +190,10 @@ def assumptions(result: Result) -> list[str]:
         "mutual inductance between vias) in series with its element.",
         f"Ground-via model for ranking: {sc.search.via_model}{calibration_note(result)}; the "
         "model spread re-scores the front and the picks under every via model.",
-        "Controlled-impedance widths: closed-form microstrip / grounded-coplanar synthesis on "
-        "the dielectric under the top copper, with the catalogue Dk.",
+        "Controlled-impedance widths: every line on every layer that carries it, sized by "
+        "the closed form of its type on that layer's dielectrics with the catalogue Dk "
+        "(the search), then checked and refined by the built-in 2-D field solver for the "
+        "picks (the impedance table).",
         "Stackups: foil lamination, outer dielectrics prepreg, inner ones alternating core / "
         "prepreg; only materials in the cost table; "
         + ("symmetric constructions." if sc.space.symmetric else "asymmetric allowed."),
