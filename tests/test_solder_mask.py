@@ -13,10 +13,11 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
-import yaml
 from reference import fd2d
-from test_hostile_inputs import QUICK, one_error
-from test_robustness import FAST, edited, run
+from scenario_support import TABLE as QUICK
+from scenario_support import TWO, edited_copy
+from test_hostile_inputs import one_error
+from test_robustness import run
 
 from stackopt.inputs.costtable import load_cost_table
 from stackopt.inputs.scenario import load_scenario
@@ -25,12 +26,8 @@ from stackopt.search.problem import Problem
 
 
 def _table(tmp_path, mask, name="t.yaml"):
-    data = yaml.safe_load(QUICK.read_text(encoding="utf-8"))
-    if mask is not None:
-        data["solder_mask"] = mask
-    p = tmp_path / name
-    p.write_text(yaml.safe_dump(data, sort_keys=False), encoding="utf-8")
-    return p
+    return edited_copy(tmp_path, name, QUICK,
+                       lambda d: mask is None or d.update(solder_mask=mask))
 
 
 def _scenario(tmp_path, mask=None):
@@ -39,7 +36,7 @@ def _scenario(tmp_path, mask=None):
                        "impedance": "50 ohm"}]
         if mask is not None:
             d["solder_mask"] = mask
-    return edited(tmp_path, "s.yaml", FAST, edit)
+    return edited_copy(tmp_path, "s.yaml", TWO, edit)
 
 
 def test_the_scenario_overrides_the_table_and_the_table_is_the_default(tmp_path):
