@@ -48,7 +48,7 @@ from numpy.typing import ArrayLike
 
 from stackopt.circuit.compile import CompiledCircuit
 from stackopt.errors import InputError
-from stackopt.physics.inductance import check_via_model
+from stackopt.physics.inductance import DEFAULT_VIA_MODEL, check_via_model
 from stackopt.physics.lines import pad_trace_inductance
 from stackopt.physics.mounting import mount_height, mounted_inductance
 from stackopt.physics.parallel import (
@@ -259,7 +259,7 @@ class GroundParts:
     guard: np.ndarray
 
 
-def ground_parts(compiled: CompiledCircuit, batch: GroundBatch, model: str = "goldfarb-pucel",
+def ground_parts(compiled: CompiledCircuit, batch: GroundBatch, model: str = DEFAULT_VIA_MODEL,
                  *, mutual: bool = True) -> GroundParts:
     """Every terminal's via, trace and mount inductance and the whole matrix.
 
@@ -323,7 +323,7 @@ def ground_parts(compiled: CompiledCircuit, batch: GroundBatch, model: str = "go
 
 
 def ground_inductance_matrix(compiled: CompiledCircuit, batch: GroundBatch,
-                             model: str = "goldfarb-pucel", *, mutual: bool = True
+                             model: str = DEFAULT_VIA_MODEL, *, mutual: bool = True
                              ) -> np.ndarray:
     """Partial-inductance matrix among the terminals of every candidate.
 
@@ -334,7 +334,8 @@ def ground_inductance_matrix(compiled: CompiledCircuit, batch: GroundBatch,
         the mounted elements that are not.
     batch : GroundBatch
         N candidates.
-    model : {"goldfarb-pucel", "johnson", "rosa", "image"}
+    model : str
+        A key of :data:`stackopt.physics.inductance.VIA_MODELS`.
         Single-via model (:func:`stackopt.physics.inductance.ground_via_inductance`).
     mutual : bool, default True
         Include the mutual inductance between different via sets; False keeps only the
@@ -351,7 +352,7 @@ def ground_inductance_matrix(compiled: CompiledCircuit, batch: GroundBatch,
 
 
 def worst_path_and_coupling(compiled: CompiledCircuit, batch: GroundBatch,
-                            model: str = "goldfarb-pucel") -> tuple[np.ndarray, np.ndarray]:
+                            model: str = DEFAULT_VIA_MODEL) -> tuple[np.ndarray, np.ndarray]:
     """What sets a filter's stopband among the ground connections: (the largest self
     inductance of one grounded element's path, via + trace + mounted loop (N,); the
     largest mutual inductance between two elements on different connections (N,)) [H];
@@ -371,7 +372,7 @@ def worst_path_and_coupling(compiled: CompiledCircuit, batch: GroundBatch,
 
 
 def ground_breakdown(compiled: CompiledCircuit, batch: GroundBatch,
-                     model: str = "goldfarb-pucel") -> list[dict[str, np.ndarray]]:
+                     model: str = DEFAULT_VIA_MODEL) -> list[dict[str, np.ndarray]]:
     """Per ground connection: via, trace and mount inductance and their total (N,) [H].
 
     ``via_H`` and ``trace_H`` are those of the connection's first element (every element

@@ -37,6 +37,7 @@ from stackopt.circuit.grounds import GroundBatch, ground_inductance_matrix
 from stackopt.circuit.ladder import ladder_s
 from stackopt.circuit.smallsolve import schur_small
 from stackopt.errors import InputError
+from stackopt.physics.inductance import DEFAULT_VIA_MODEL
 
 __all__ = ["solve", "mna_s", "mna_s_varied", "CHUNK", "SMALL_CHUNK", "MIN_REDUCE", "COND_LIMIT"]
 
@@ -262,7 +263,7 @@ def mna_s_varied(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray,
 
 
 def solve(compiled: CompiledCircuit, freqs: np.ndarray, batch: GroundBatch | None = None,
-          model: str = "goldfarb-pucel", *, method: Method = "auto", mutual: bool = True,
+          model: str = DEFAULT_VIA_MODEL, *, method: Method = "auto", mutual: bool = True,
           lg: np.ndarray | None = None) -> np.ndarray:
     """S-parameters of the circuit for every candidate of a batch.
 
@@ -274,7 +275,8 @@ def solve(compiled: CompiledCircuit, freqs: np.ndarray, batch: GroundBatch | Non
         Frequencies [Hz], > 0.
     batch : GroundBatch, optional
         N candidate stackups; None means ideal grounds (N = 1).
-    model : {"goldfarb-pucel", "johnson", "rosa", "image"}
+    model : str
+        A key of :data:`stackopt.physics.inductance.VIA_MODELS`.
         Single-via inductance model.
     method : {"auto", "mna", "ladder"}
         "auto" uses the ABCD ladder cascade where it is exact (a plain ladder whose shunt

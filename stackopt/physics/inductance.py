@@ -331,7 +331,7 @@ def check_via_model(model: str) -> ViaModel:
     return model
 
 
-def ground_via_inductance(h: ArrayLike, d: ArrayLike, model: ViaModel = "goldfarb-pucel"
+def ground_via_inductance(h: ArrayLike, d: ArrayLike, model: ViaModel = DEFAULT_VIA_MODEL
                           ) -> _F:
     r"""Inductance of one ground via with the named model.
 
@@ -341,7 +341,8 @@ def ground_via_inductance(h: ArrayLike, d: ArrayLike, model: ViaModel = "goldfar
         Via depth from the pad to the plane [m], > 0.
     d : array_like
         Drill / barrel outer diameter [m], > 0.
-    model : {"goldfarb-pucel", "johnson", "rosa", "image"}
+    model : str
+        A key of :data:`stackopt.physics.inductance.VIA_MODELS`.
         :func:`via_goldfarb_pucel` (default), :func:`via_johnson_graham`,
         :func:`via_rosa` (high-frequency form) or :func:`via_image`.
 

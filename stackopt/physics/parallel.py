@@ -15,6 +15,7 @@ from numpy.typing import ArrayLike
 from stackopt.physics.arrays import FloatArray
 from stackopt.physics.constants import MU0
 from stackopt.physics.inductance import (
+    DEFAULT_VIA_MODEL,
     ViaModel,
     check_via_model,
     ground_via_inductance,
@@ -146,7 +147,7 @@ def parallel_via_inductance(h: ArrayLike, d: ArrayLike, xy: ArrayLike,
                             model: ViaModel = ..., *, with_guard: Literal[True]
                             ) -> tuple[_F, _F]: ...
 def parallel_via_inductance(h: ArrayLike, d: ArrayLike, xy: ArrayLike,
-                            model: ViaModel = "goldfarb-pucel", *, with_guard: bool = False
+                            model: ViaModel = DEFAULT_VIA_MODEL, *, with_guard: bool = False
                             ) -> _F | tuple[_F, _F]:
     r"""Effective inductance of N equal ground vias in parallel (one ground connection).
 
@@ -173,7 +174,8 @@ def parallel_via_inductance(h: ArrayLike, d: ArrayLike, xy: ArrayLike,
         Drill / barrel outer diameter [m], > 0; broadcasts likewise.
     xy : array_like, shape (..., N, 2)
         Via centre coordinates [m] (see :func:`row_positions`), at least a drill apart.
-    model : {"goldfarb-pucel", "johnson", "rosa", "image"}
+    model : str
+        A key of :data:`stackopt.physics.inductance.VIA_MODELS`.
         The single-via model for the diagonal.
     with_guard : bool, default False
         Also return the guard factor ``alpha`` (shape ``...``; below 1 where it acted).
