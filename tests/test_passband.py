@@ -65,4 +65,6 @@ def test_check_echoes_the_passband(capsys):
     from stackopt.cli.main import main
 
     assert main(["check", str(ROOT / "scenarios" / "harmonic_lowpass.yaml")]) == 0
-    assert "passband  863 MHz to 870 MHz\n" in capsys.readouterr().out
+    out = capsys.readouterr().out
+    assert "passband  863 MHz to 870 MHz\n" in out
+    assert "1.736 GHz" in out and "2.604 GHz" in out  # the requirements as given

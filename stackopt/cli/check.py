@@ -59,8 +59,8 @@ def run(args: argparse.Namespace) -> int:
         say("note: " + note)
     rows = []
     for r in sc.requirements:
-        where = (fq(r.frequency, "frequency") if r.frequency is not None else
-                 f"{fq(r.band[0], 'frequency')} .. {fq(r.band[1], 'frequency')}")  # type: ignore[index]
+        where = (fq(r.frequency, "frequency", 6) if r.frequency is not None else  # as given
+                 f"{fq(r.band[0], 'frequency', 6)} .. {fq(r.band[1], 'frequency', 6)}")  # type: ignore[index]
         rows.append([r.label, where, f">= {r.min_attenuation:g} dB"])
     if rows:
         say(table(rows, ["requirement", "at", "attenuation"]))
