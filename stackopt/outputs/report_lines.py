@@ -63,8 +63,10 @@ def impedance_table(result: Result, i: int | None) -> list[tuple]:
             "docs/models.md), started from the closed-form width the search used; the last "
             "three columns are the impedance at that closed-form width, by closed form and "
             "by field solve (Zdiff for pairs). "
-            + (f"Outer layers under {mm(mask.thickness)} of solder mask (Dk {mask.er:g}), "
-               "in the field solve only. " if mask else "No solder mask modelled. ")
+            + (f"Outer layers under {mm(mask.thickness)} of solder mask (Dk {mask.er:g}, "
+               + ("the scenario's" if result.problem.scenario.solder_mask else
+                  "the fab's, from its cost table")
+               + "), in the field solve only. " if mask else "No solder mask modelled. ")
             + "Ask the fab to confirm the widths with its own materials and process.")
     return [("h2", f"Controlled-impedance lines ({result.ids[i]})"),
             ("table", ["Line", "Layer", "Type", "Target", "Width", "Spacing",
