@@ -60,3 +60,16 @@ def test_front_csv_rows_are_the_front_by_cost():
     assert all(math.isclose(a, b, rel_tol=1e-9) for a, b in
                zip(back["unit_cost"], result.evaluation.unit_cost[result.front_order],
                    strict=True))
+
+
+def test_slot_names_of_the_whole_batch_match_each_candidate_in_words():
+    # the batch lookup (one code per slot) against the per-candidate description, which
+    # reads each slot's option list directly
+    r = run()
+    sp = r.problem.space
+    names = sp.slot_names(r.candidates)
+    top = sp.slot_names(r.candidates, 0)
+    for i in np.random.default_rng(3).choice(r.n, size=60, replace=False).tolist():
+        mats = sp.describe(r.candidates, i)["materials"]
+        assert [x for x in names[i] if x] == mats
+        assert top[i] == mats[0]

@@ -62,7 +62,7 @@ def _first(idx: np.ndarray, *keys: np.ndarray) -> int | None:
 def prepreg_rows(result) -> list[PrepregRow]:
     """One :class:`PrepregRow` per stocked top dielectric reachable in the space."""
     ev = result.evaluation
-    names = result.problem.space.slot_names(result.candidates)[:, 0].astype(str)
+    names = result.problem.space.slot_names(result.candidates, 0).astype(str)
     v = (np.stack(list(ev.violations.values())) if ev.violations
          else np.zeros((1, result.n)))
     broken, total = (v > 0).sum(axis=0), v.sum(axis=0)

@@ -166,7 +166,7 @@ class LayerStack:
     @cached_property
     def z_top(self) -> np.ndarray:
         """z of each copper layer's upper face, m (N, L); 0 at the top, positive down."""
-        return _prefix(self.dielectric) + _prefix(self.copper)[..., :-1]
+        return self._sum_dielectric + self._sum_copper[..., :-1]
 
     @cached_property
     def z_bottom(self) -> np.ndarray:
@@ -178,14 +178,31 @@ class LayerStack:
         """Layers that are solid reference planes (N, L) bool."""
         return np.isin(self.role, _PLANE_CODES)
 
+    # ---- running sums from the top (each once per stack) ------------------------------
+    @cached_property
+    def _sum_dielectric(self) -> np.ndarray:
+        """Dielectric thickness above each copper layer, m (N, L)."""
+        return _prefix(self.dielectric)
+
+    @cached_property
+    def _sum_copper(self) -> np.ndarray:
+        """Copper thickness above each copper layer (and the total last), m (N, L + 1)."""
+        return _prefix(self.copper)
+
+    @cached_property
+    def _sum_dk_thickness(self) -> np.ndarray:
+        """Sum of Dk × thickness of the dielectrics above each copper layer, m (N, L)."""
+        return _prefix(self.dielectric * self.er)
+
     # ---- between two layers --------------------------------------------------------
     def height(self, a: ArrayLike, b: ArrayLike) -> np.ndarray:
         """Dielectric plus inner copper between the faces of copper ``a`` and ``b`` that
         face each other, m (N, K); NaN where either index is -1."""
         a, b = self._layer(a), self._layer(b)
         lo, hi = np.minimum(a, b), np.maximum(a, b)
-        d = _at(_prefix(self.dielectric), hi) - _at(_prefix(self.dielectric), lo)
-        cu = _prefix(self.copper)
+        t = self._sum_dielectric
+        d = _at(t, hi) - _at(t, lo)
+        cu = self._sum_copper
         inner = np.where(hi > lo + 1, _at(cu, hi) - _at(cu, lo + 1), 0.0)
         return np.where((a < 0) | (b < 0), np.nan, d + inner)
 
@@ -194,7 +211,7 @@ class LayerStack:
         else the thickness-weighted mean (N, K); NaN where either index is -1."""
         a, b = self._layer(a), self._layer(b)
         lo, hi = np.minimum(a, b), np.maximum(a, b)
-        t, w = _prefix(self.dielectric), _prefix(self.dielectric * self.er)
+        t, w = self._sum_dielectric, self._sum_dk_thickness
         with np.errstate(invalid="ignore", divide="ignore"):
             mean = (_at(w, hi) - _at(w, lo)) / (_at(t, hi) - _at(t, lo))
         one = _at(self.er, lo)

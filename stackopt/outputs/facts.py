@@ -122,7 +122,7 @@ def responses(result: Result, idx: Sequence[int] | np.ndarray, freqs: np.ndarray
 
 def top_dielectric(result: Result) -> np.ndarray:
     """Name of the dielectric under the top copper of every candidate (N,) str."""
-    return result.problem.space.slot_names(result.candidates)[:, 0]
+    return result.problem.space.slot_names(result.candidates, 0)
 
 
 def shortfalls(result: Result, i: int) -> list[tuple[str, float, float, float]]:

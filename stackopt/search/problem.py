@@ -87,9 +87,9 @@ class Evaluation:
     geometry: Geometry
     cost_items: dict[str, np.ndarray]  # itemised unit cost, items sum to unit_cost
 
-    @property
+    @cached_property
     def feasible(self) -> np.ndarray:
-        """No constraint violated."""
+        """No constraint violated (computed once per evaluation)."""
         v = np.zeros(len(self.unit_cost), dtype=bool)
         for a in self.violations.values():
             v |= a > 0

@@ -275,15 +275,19 @@ class Space:
             out[i, : a.n_layers] = role_codes(a.roles)
         return out
 
-    def slot_names(self, c: Candidates) -> np.ndarray:
-        """Material name of every dielectric slot, (N, S) object array ('' where unused)."""
-        out = np.full((len(c), self.n_slots), "", dtype=object)
+    def slot_names(self, c: Candidates, slots: slice | int = slice(None)) -> np.ndarray:
+        """Material name of every dielectric slot, (N, S) object array ('' where unused);
+        ``slots`` selects columns (``0``: the dielectric under the top copper, (N,))."""
+        kinds = list(self.options)
+        names = np.array([n for k in kinds for n in self.options[k].names] + [""], dtype=object)
+        start = np.cumsum([0] + [len(self.options[k].names) for k in kinds])
+        # first name code of each (arrangement, slot); -1: the slot is unused
+        base = np.full((len(self.arrangements), self.n_slots), -1, dtype=np.int64)
         for ai, a in enumerate(self.arrangements):  # a handful of arrangements
-            rows = c.arr == ai
-            for s, kind in enumerate(a.slot_kinds):
-                names = np.array(self.options[kind].names, dtype=object)
-                out[rows, s] = names[c.slot[rows, s]]
-        return out
+            base[ai, :len(a.slot_kinds)] = [start[kinds.index(k)] for k in a.slot_kinds]
+        b = base[c.arr][:, slots]
+        code = np.where(b >= 0, b + c.slot[:, slots], len(names) - 1)
+        return names[code]
 
     def describe(self, c: Candidates, i: int) -> dict:
         """One candidate in words: arrangement, materials per slot, copper, drill, vias."""
