@@ -52,3 +52,16 @@ def test_jobs_returning_several_files_are_merged_in_order(monkeypatch):
         out, _ = parallel.render({"a": lambda: {"a.png": b"1", "a.svg": b"2"},
                                   "b": lambda: b"3"})
         assert list(out.items()) == [("a.png", b"1"), ("a.svg", b"2"), ("b", b"3")]
+
+
+def test_the_candidates_table_in_blocks_on_several_cores_is_the_whole_table(monkeypatch):
+    from stackopt.outputs import exports
+    from stackopt.outputs.bundle import render_all
+
+    result = run()
+    whole = exports.candidates_csv(result)  # one block: the demo is small
+    monkeypatch.setattr(exports, "CSV_BLOCK", 997)  # many blocks, the last one short
+    assert exports.csv_blocks(result) > 3
+    for n in ("1", "2"):
+        monkeypatch.setenv("STACKOPT_JOBS", n)
+        assert render_all(result)["candidates.csv"] == whole.encode("utf-8")

@@ -5,11 +5,13 @@ or the complete new one at every instant. A new output is one more entry in the 
 
 from __future__ import annotations
 
+import functools
 from pathlib import Path
 from typing import TYPE_CHECKING
 
 from stackopt.outputs.exports import (
     candidates_csv,
+    csv_blocks,
     front_csv,
     mitigations_csv,
     selected_yaml,
@@ -32,6 +34,10 @@ FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.m
          "prepregs.png", "mitigations.png", "mitigations.csv", "quantities.png",
          "robustness.png",
          "selected.yaml", "selected.s2p")
+
+
+def _csv_block(result: Result, k: int) -> bytes:
+    return candidates_csv(result, k).encode("utf-8")
 
 
 def _touchstone(result: Result, i: int) -> str:
@@ -84,8 +90,10 @@ def render_all(result: Result, extra_summary: dict | None = None,
         "stackups": lambda: figure_bytes(plot_stackups(result), "png"),
         "costs": lambda: figure_bytes(plot_costs(result), "png"),
         "prepregs": lambda: figure_bytes(plot_prepregs(result), "png"),
-        "candidates.csv": lambda: candidates_csv(result).encode("utf-8"),
     }
+    blocks = csv_blocks(result)  # the large table in blocks, shared between the cores
+    for k in range(blocks):
+        jobs[f"candidates.csv#{k}"] = functools.partial(_csv_block, result, k)
     if result.robust:
         from stackopt.outputs.plots_robust import plot_robustness
 
@@ -109,7 +117,8 @@ def render_all(result: Result, extra_summary: dict | None = None,
 
     images, out = render(jobs, meanwhile=texts)  # name -> bytes (a job may give several)
     assert out is not None
-    out["candidates.csv"] = images.pop("candidates.csv")
+    out["candidates.csv"] = b"".join([images.pop(f"candidates.csv#{k}")
+                                      for k in range(blocks)])
     out["pareto.svg"] = images.pop("pareto.svg")
     out["report.html"] = report_html(result, images, sweep).encode("utf-8")
     for key, name in IMAGE_FILES.items():

@@ -22,7 +22,7 @@ from stackopt.outputs.report_sections import OZ
 if TYPE_CHECKING:
     from stackopt.search.results import Result
 
-__all__ = ["candidates_csv", "front_csv", "mitigations_csv", "selected_yaml", "stackup_files",
+__all__ = ["candidates_csv", "csv_blocks", "front_csv", "mitigations_csv", "selected_yaml", "stackup_files",
            "selected_document",
            "summary_json", "csv_safe", "FORMAT", "json_clean"]
 
@@ -88,12 +88,19 @@ def _csv(df: pd.DataFrame, header: bool = True) -> str:
     return head + "".join([fmt % row for row in zip(*(v for _, v in cols), strict=True)])
 
 
-def candidates_csv(result: Result) -> str:
+def csv_blocks(result: Result) -> int:
+    """Blocks of :data:`CSV_BLOCK` rows in the candidates table (at least one)."""
+    return max(1, -(-result.n // CSV_BLOCK))
+
+
+def candidates_csv(result: Result, block: int | None = None) -> str:
     """Every evaluated candidate, one row each (``on_front`` flags the front), built and
-    formatted :data:`CSV_BLOCK` rows at a time."""
-    starts = range(0, max(result.n, 1), CSV_BLOCK)
-    return "".join(_csv(result.frame(np.arange(a, min(a + CSV_BLOCK, result.n))),
-                        header=(a == 0)) for a in starts)
+    formatted :data:`CSV_BLOCK` rows at a time; ``block`` gives that block's text alone
+    (the first with the header), so blocks can be formatted on several cores and joined."""
+    blocks = range(csv_blocks(result)) if block is None else [block]
+    return "".join(_csv(result.frame(np.arange(k * CSV_BLOCK,
+                                               min((k + 1) * CSV_BLOCK, result.n))),
+                        header=(k == 0)) for k in blocks)
 
 
 def front_csv(result: Result) -> str:
