@@ -73,3 +73,13 @@ def test_slot_names_of_the_whole_batch_match_each_candidate_in_words():
         mats = sp.describe(r.candidates, i)["materials"]
         assert [x for x in names[i] if x] == mats
         assert top[i] == mats[0]
+
+
+def test_formatter_equals_pandas_on_a_column_of_few_values():
+    # few distinct values take the formatted-once path: -0.0, NaN and inf keep their text
+    vals = np.array([0.0, -0.0, np.nan, np.inf, 35e-6, 1.6e-3, 0.1 + 0.2])
+    df = pd.DataFrame({"x": np.random.default_rng(5).choice(vals, size=400),
+                       "n": np.arange(400, dtype=np.int64)})
+    text = exports._csv(df)
+    assert text == pandas_csv(df)
+    assert "-0," in text and ",\n" not in text.splitlines()[0]

@@ -9,6 +9,8 @@ import functools
 from pathlib import Path
 from typing import TYPE_CHECKING
 
+import numpy as np
+
 from stackopt.outputs.exports import (
     candidates_csv,
     csv_blocks,
@@ -91,6 +93,9 @@ def render_all(result: Result, extra_summary: dict | None = None,
         "costs": lambda: figure_bytes(plot_costs(result), "png"),
         "prepregs": lambda: figure_bytes(plot_prepregs(result), "png"),
     }
+    # the table's whole-batch columns (heights, Dk, flags) computed here once, before
+    # the fork, instead of once in every worker
+    result.frame(np.zeros(0, dtype=np.int64))
     blocks = csv_blocks(result)  # the large table in blocks, shared between the cores
     for k in range(blocks):
         jobs[f"candidates.csv#{k}"] = functools.partial(_csv_block, result, k)

@@ -59,6 +59,15 @@ def _column(values: np.ndarray) -> tuple[str, list]:
     """(%-format, Python values) of one column: floats as ``%.10g`` (missing: empty),
     integers as ``%d``, booleans as True/False, anything else as text cells."""
     kind = values.dtype.kind
+    if kind == "f" and values.dtype.itemsize == 8:
+        # few distinct values (copper, drill, thicknesses, costs): each formatted once;
+        # grouped by bit pattern, so -0.0 and 0.0 and every NaN keep their own text
+        codes, bits = pd.factorize(values.view(np.int64), use_na_sentinel=False)
+        if 4 * len(bits) < len(values):
+            uniq = np.asarray(bits, dtype=np.int64).view(np.float64)
+            cells = np.array(["" if math.isnan(u) else "%.10g" % u for u in uniq.tolist()],
+                             dtype=object)
+            return "%s", cells[codes].tolist()
     if kind == "f":
         nan = np.isnan(values)
         if nan.any():
