@@ -22,8 +22,8 @@ from stackopt.outputs.report_sections import OZ
 if TYPE_CHECKING:
     from stackopt.search.results import Result
 
-__all__ = ["candidates_csv", "csv_blocks", "front_csv", "mitigations_csv", "selected_yaml", "stackup_files",
-           "selected_document",
+__all__ = ["candidates_csv", "csv_blocks", "front_csv", "mitigations_csv", "selected_yaml",
+           "stackup_files", "selected_document",
            "summary_json", "csv_safe", "FORMAT", "json_clean"]
 
 #: Format tag of :func:`selected_yaml` files (read back by
@@ -65,7 +65,7 @@ def _column(values: np.ndarray) -> tuple[str, list]:
         codes, bits = pd.factorize(values.view(np.int64), use_na_sentinel=False)
         if 4 * len(bits) < len(values):
             uniq = np.asarray(bits, dtype=np.int64).view(np.float64)
-            cells = np.array(["" if math.isnan(u) else "%.10g" % u for u in uniq.tolist()],
+            cells = np.array(["" if math.isnan(u) else f"{u:.10g}" for u in uniq.tolist()],
                              dtype=object)
             return "%s", cells[codes].tolist()
     if kind == "f":
