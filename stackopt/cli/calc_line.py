@@ -142,9 +142,10 @@ def _check(args: argparse.Namespace) -> None:
     if args.copper < 0:
         _fail(f"copper thickness {args.copper:g} m is negative", "--copper",
               "give 0 or a positive thickness, e.g. 35um")
-    if kind == "cpwg" and args.gap is None:
+    coplanar = LINE_TYPES[kind].coplanar
+    if coplanar and args.gap is None:
         _fail("a cpwg needs the gap to its coplanar ground", "--gap", "add e.g. --gap 0.2mm")
-    if kind != "cpwg" and args.gap is not None:
+    if not coplanar and args.gap is not None:
         _fail(f"--gap applies to --type cpwg, not {kind}", "--gap",
               "drop --gap or use --type cpwg")
     if pair and args.spacing is None:
@@ -159,9 +160,9 @@ def _check(args: argparse.Namespace) -> None:
     if not pair and args.target_diff is not None:
         _fail(f"--target-diff applies to the diff- types, not {kind}", "--target-diff",
               "use --target for a single trace")
-    if "microstrip" not in kind and args.model is not None:
+    if (strip or coplanar) and args.model is not None:
         _fail(f"--model applies to --type microstrip, not {kind}", "--model", "drop --model")
-    if kind == "diff-microstrip" and args.model not in (None, MICROSTRIP_MODELS[0]):
+    if pair and not strip and args.model not in (None, MICROSTRIP_MODELS[0]):
         _fail("the pair model builds on hammerstad-jensen only", "--model", "drop --model")
     if not strip and args.offset is not None:
         _fail(f"--offset applies to the stripline types, not {kind}", "--offset",

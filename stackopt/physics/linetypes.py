@@ -29,7 +29,8 @@ import numpy as np
 if TYPE_CHECKING:
     from stackopt.physics.synthesis import LineKind
 
-__all__ = ["LINE_TYPES", "PAIR_TYPES", "STRIPLINE_TYPES", "SOLVERS", "LineTypeEntry",
+__all__ = ["LINE_TYPES", "PAIR_TYPES", "STRIPLINE_TYPES", "POUR_TYPE", "SOLVERS",
+           "LineTypeEntry", "is_plain",
            "LineSpec", "check_line_type", "closed_form", "field", "line_width",
            "sized_impedance"]
 
@@ -57,6 +58,16 @@ LINE_TYPES: dict[str, LineTypeEntry] = {
     "diff-microstrip": LineTypeEntry(pair=True),
     "diff-stripline": LineTypeEntry(pair=True, between_planes=True),
 }
+
+
+#: The type a plain outer-layer line becomes with a coplanar ground pour beside it.
+POUR_TYPE = "cpwg"
+
+
+def is_plain(name: str) -> bool:
+    """A single trace over one plane with no coplanar ground (the microstrip form)."""
+    e = LINE_TYPES[name]
+    return not (e.pair or e.between_planes or e.coplanar)
 
 
 class _TypesWith:

@@ -20,7 +20,16 @@ from stackopt.model.costtable import CostTable, SolderMask
 from stackopt.model.geometry import LayerStack
 from stackopt.model.routing import Route, line_routes, line_section, route_layer
 from stackopt.model.scenario import Scenario
-from stackopt.physics.linetypes import STRIPLINE_TYPES, LineSpec, line_width, sized_impedance
+from stackopt.physics.linetypes import (
+    LINE_TYPES,
+    PAIR_TYPES,
+    POUR_TYPE,
+    STRIPLINE_TYPES,
+    LineSpec,
+    is_plain,
+    line_width,
+    sized_impedance,
+)
 from stackopt.search.phenotype import LineBatch, batch_key, unique_rows
 from stackopt.search.space import Geometry, Space
 
@@ -69,7 +78,7 @@ class LineWork:
         layer = route_layer(g.stack, ln.type, ln.layer_rule, rt.layer)
         sec = line_section(g.stack, layer, ln.type)
         cop = g.flags.get("coplanar", np.zeros(len(g), dtype=bool))
-        cop = (cop & (layer == 0) & (ln.type == "microstrip")) | (ln.type == "cpwg")
+        cop = (cop & (layer == 0) & is_plain(ln.type)) | LINE_TYPES[ln.type].coplanar
         return LineBatch(height=np.nan_to_num(sec.h), er=np.nan_to_num(sec.er),
                          copper=np.nan_to_num(sec.t), coplanar=cop & (layer >= 0),
                          height_above=np.nan_to_num(sec.h_above),
@@ -80,9 +89,10 @@ class LineWork:
         cross-sections of ``lb`` (arrays; a coplanar pour makes it a cpwg)."""
         ln = self.scenario.lines[self.routes[route].line]
         strip = ln.type in STRIPLINE_TYPES
-        kind = "cpwg" if bool(np.all(lb.coplanar)) and not ln.type.startswith("diff") \
+        kind = POUR_TYPE if bool(np.all(lb.coplanar)) and ln.type not in PAIR_TYPES \
             else ln.type
-        gap = (ln.gap if ln.gap is not None else self.pour_gap) if kind == "cpwg" else None
+        gap = ((ln.gap if ln.gap is not None else self.pour_gap)
+               if LINE_TYPES[kind].coplanar else None)
         mask = self.solder_mask
         return LineSpec(kind, lb.height, lb.er, lb.copper,
                         h_above=lb.height_above if strip else None,
@@ -158,7 +168,8 @@ class LineWork:
         there (``layers`` from :meth:`line_layers`); NaN where none."""
         lines = self.scenario.lines
         sp = np.array([ln.spacing if ln.spacing is not None else
-                       (ln.gap or self.pour_gap) if ln.type == "cpwg" else np.inf
+                       (ln.gap or self.pour_gap) if LINE_TYPES[ln.type].coplanar
+                       else np.inf
                        for ln in (lines[rt.line] for rt in self.routes)])
         m = np.where(layers >= 0, sp[None, :], np.inf).min(axis=1, initial=np.inf)
         return np.where(np.isfinite(m), m, np.nan)
