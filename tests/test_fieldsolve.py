@@ -220,6 +220,22 @@ def test_field_width_hits_the_target():
     assert zd == pytest.approx(100.0, rel=1e-3) and wd < w
 
 
+def test_field_width_from_a_known_start_skips_one_solve(monkeypatch):
+    from stackopt.physics import fieldlines
+
+    sec = Section(0.3 * MM, 0.2 * MM, ER, T)
+    z0 = solve_section(sec)["z0"]
+    calls = []
+    real = fieldlines.solve_section
+    monkeypatch.setattr(fieldlines, "solve_section",
+                        lambda *a, **k: calls.append(1) or real(*a, **k))
+    plain = field_width(50.0, sec)
+    n_plain = len(calls)
+    started = field_width(50.0, sec, z_start=z0)
+    assert started == plain  # the same iterations, bit for bit
+    assert len(calls) - n_plain == n_plain - 1
+
+
 def test_bad_section_is_refused():
     with pytest.raises(ValueError, match="h_above"):
         Section(0.1 * MM, 0.2 * MM, ER, T, top_plane=True)

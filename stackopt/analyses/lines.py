@@ -107,9 +107,9 @@ def _route_row(problem, r: int, lb, width: float, check: bool, cache: dict) -> L
     if check and w is not None:
         ck = (spec, w, ln.target)
         if ck not in cache:
-            f = field(spec, w)
+            f = field(spec, w)  # the closed-form width, solved once: check and start
             wf, ok = line_width(spec, ln.target, w_min=0.25 * w, w_max=4.0 * w,
-                                solver="field")
+                                solver="field", start=(w, float(f[key])))
             cache[ck] = (f[key], f["error"], float(wf) if bool(ok) else math.nan)
         zf, err, wf = cache[ck]
         row.update(z_field_ohm=_num(zf), field_error=_num(err), width_field_m=_num(wf))

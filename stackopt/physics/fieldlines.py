@@ -163,7 +163,8 @@ def _z(sec: Section, resolution: float) -> float:
 
 
 def field_width(target: float, sec: Section, *, resolution: float = DEFAULT_RESOLUTION,
-                rtol: float = 1e-3, iterations: int = 8) -> tuple[float, float]:
+                rtol: float = 1e-3, iterations: int = 8, z_start: float | None = None
+                ) -> tuple[float, float]:
     r"""Width [m] at which the field solver gives ``target`` [ohm] (:math:`Z_0`, or
     :math:`Z_{\mathrm{diff}}` for a pair), starting from ``sec.w`` (e.g. the closed
     form's width).
@@ -171,9 +172,10 @@ def field_width(target: float, sec: Section, *, resolution: float = DEFAULT_RESO
     Secant iterations on :math:`\ln Z(\ln w)`; the first step assumes
     :math:`Z \propto w^{-1/2}` (a mid-range slope of every line here). Stops when
     :math:`|Z/Z_t - 1| \le` ``rtol``. Returns ``(width, impedance at that width)``; NaN
-    width if it does not converge.
+    width if it does not converge. ``z_start``: the impedance at ``sec.w`` where the
+    caller has solved it already (at ``resolution``); it is not solved again.
     """
-    lw0, lz0 = np.log(sec.w), np.log(_z(sec, resolution))
+    lw0, lz0 = np.log(sec.w), np.log(_z(sec, resolution) if z_start is None else z_start)
     lt = np.log(target)
     if abs(lz0 - lt) <= rtol:
         return sec.w, float(np.exp(lz0))

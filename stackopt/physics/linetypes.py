@@ -247,12 +247,14 @@ def sized_impedance(spec: LineSpec, w) -> np.ndarray:
 
 
 def line_width(spec: LineSpec, target, w_min=10e-6, w_max=50e-3,
-               solver: str = "closed-form") -> tuple[np.ndarray, np.ndarray]:
+               solver: str = "closed-form", start: tuple[float, float] | None = None
+               ) -> tuple[np.ndarray, np.ndarray]:
     """Width [m] at which the line reaches ``target`` [ohm] (Z0; Z_diff for pairs).
 
     Closed form: vectorized bisection (:func:`~stackopt.physics.synthesis.synthesize_width`)
     inside ``[w_min, w_max]``. ``solver="field"`` (scalars only) starts there and refines
-    by field solves (:func:`~stackopt.physics.fieldlines.field_width`). Returns
+    by field solves (:func:`~stackopt.physics.fieldlines.field_width`); ``start``
+    ``(width, field impedance there)`` starts from a width already solved instead. Returns
     ``(width, ok)``; NaN width where no width in range reaches the target.
     """
     from stackopt.physics.synthesis import synthesize_width
@@ -263,6 +265,7 @@ def line_width(spec: LineSpec, target, w_min=10e-6, w_max=50e-3,
         return w, ok
     from stackopt.physics.fieldlines import field_width
 
-    wf, _ = field_width(float(target), _section(spec, float(w)))
+    w0, z0 = (float(w), None) if start is None else start
+    wf, _ = field_width(float(target), _section(spec, w0), z_start=z0)
     ok_f = bool(np.isfinite(wf) and w_min <= wf <= w_max)
     return np.asarray(wf if ok_f else np.nan), np.asarray(ok_f)
