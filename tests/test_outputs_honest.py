@@ -178,6 +178,11 @@ def test_prepreg_rows_carry_robust_margin_and_yield():
         assert res.yields[i] == pytest.approx(np.mean(m >= 0.0))
     head, table = prepreg_table(res, rows)
     assert "Yield" in head and any("Robust" in h for h in head)
+    # the rows are found once by the analysis and stay true of the finished result
+    from dataclasses import replace
+
+    assert res.prepregs is rows
+    assert prepreg_rows(replace(res, prepregs=None)) == rows
     k = head.index("Yield")
     built = [r for r in rows if r.cheapest is not None]  # the others listed apart
     assert len(unbuildable(res, rows)) == len(rows) - len(built)

@@ -60,7 +60,10 @@ def _first(idx: np.ndarray, *keys: np.ndarray) -> int | None:
 
 
 def prepreg_rows(result) -> list[PrepregRow]:
-    """One :class:`PrepregRow` per stocked top dielectric reachable in the space."""
+    """One :class:`PrepregRow` per stocked top dielectric reachable in the space (the rows
+    the robustness analysis kept on the result, found once per run)."""
+    if result.prepregs is not None:
+        return result.prepregs
     ev = result.evaluation
     names = result.problem.space.slot_names(result.candidates, 0).astype(str)
     v = (np.stack(list(ev.violations.values())) if ev.violations

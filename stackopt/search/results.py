@@ -51,6 +51,9 @@ class Result:
     robust_pick: int | None = None
     #: What limits each pick's circuit (:mod:`stackopt.analyses.limits`), by pick name.
     limits: dict[str, dict] = field(default_factory=dict)
+    #: The prepreg answer's rows (:class:`stackopt.analyses.prepregs.PrepregRow`), found
+    #: once by the robustness analysis; ``None`` before it ran.
+    prepregs: list | None = None
 
     # ---- basic views -------------------------------------------------------------------
     @property
