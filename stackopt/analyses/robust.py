@@ -136,8 +136,9 @@ def analyse(result: Result, progress: Progress | None = None) -> Result:
     for v in r.picks.values():
         if v is not None:
             keep[v] = True
-    r = replace(r, prepregs=prepreg_rows(r))  # found once; every output reads these rows
-    keep[row_boards(r.prepregs)] = True  # the same batch: each row's boards
+    rows = prepreg_rows(r)
+    r = replace(r, prepregs=rows)  # found once; every output reads these rows
+    keep[row_boards(rows)] = True  # the same batch: each row's boards
     sampler.sample(np.flatnonzero(keep))
     pick = _cheapest_robust(r, sampler)
     r = replace(r, yields=sampler.yields, impedance_range=sampler.zrange, robust_pick=pick)
