@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any
 import matplotlib as mpl
 import numpy as np
 from matplotlib.figure import Figure
+from matplotlib.layout_engine import PlaceHolderLayoutEngine
 
 from stackopt.outputs.facts import money_digits, plural, responses, sweep_freqs, unique_picks
 from stackopt.outputs.files import atomic_write_bytes
@@ -24,7 +25,7 @@ from stackopt.search.picks import PICKS
 if TYPE_CHECKING:
     from stackopt.search.results import Result
 
-__all__ = ["STYLE", "styled", "new_figure", "figure_bytes", "save_png", "save_svg",
+__all__ = ["STYLE", "styled", "new_figure", "fix_layout", "figure_bytes", "save_png", "save_svg",
            "plot_front", "plot_response", "plain", "LAYER_MARKERS", "layer_color", "pick_color"]
 
 #: rc settings of every figure (``svg.hashsalt`` fixes the SVG ids; paths, not fonts).
@@ -38,7 +39,7 @@ STYLE = {
     "grid.alpha": 0.3,
     "legend.fontsize": 8.0,
     "legend.framealpha": 0.9,
-    "figure.dpi": 100.0,
+    "figure.dpi": 110.0,
     "savefig.dpi": 110.0,
     "path.simplify": False,
 }
@@ -79,11 +80,30 @@ def new_figure(width: float, height: float, **kw) -> Figure:
     return Figure(figsize=(width, height), layout="constrained", **kw)
 
 
+def fix_layout(fig: Figure) -> None:
+    """Solve the figure's layout once and keep it: the axes stay where they are placed
+    now, and every later draw or save (PNG, then SVG) draws once, without solving again.
+
+    With a layout engine, ``savefig`` solves the layout and draws the whole figure twice
+    (a first draw without pixels to settle it), on every save; fixed, each save draws once.
+    Call it when the figure is complete (or, as :func:`place_labels` does, before adding
+    what is placed against the final axes). ``figure.dpi`` equals ``savefig.dpi`` in
+    :data:`STYLE`, so the layout solved here is the one a save would solve (same text
+    sizes in pixels; the PNG files are byte-identical to solving at save time).
+    """
+    engine = fig.get_layout_engine()
+    if engine is not None and not isinstance(engine, PlaceHolderLayoutEngine):
+        engine.execute(fig)
+    fig.set_layout_engine(None)  # None, not "none": savefig's settling draw is skipped
+
+
 def figure_bytes(fig: Figure, fmt: str = "png") -> bytes:
-    """The figure encoded as ``png`` or ``svg``, deterministically."""
+    """The figure encoded as ``png`` or ``svg``, deterministically; its layout is fixed
+    on the first call (:func:`fix_layout`)."""
     buf = io.BytesIO()
     meta = _PNG_META if fmt == "png" else _SVG_META
     with mpl.rc_context(STYLE):  # type: ignore[arg-type]  # stubs want Literal rc keys
+        fix_layout(fig)
         fig.savefig(buf, format=fmt, metadata=meta)
     return buf.getvalue()
 
@@ -251,7 +271,7 @@ def place_labels(ax, labels) -> list:
 
     fig = ax.figure
     canvas = fig.canvas if hasattr(fig.canvas, "get_renderer") else FigureCanvasAgg(fig)
-    fig.draw_without_rendering()  # the layout and the legend's place, as they will be
+    fix_layout(fig)  # the axes where they will be drawn (the legend is placed on demand)
     renderer = canvas.get_renderer()
     pts = _curve_points(ax)
     taken = []
