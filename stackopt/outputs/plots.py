@@ -14,6 +14,7 @@ from typing import TYPE_CHECKING, Any
 
 import matplotlib as mpl
 import numpy as np
+from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 from matplotlib.layout_engine import PlaceHolderLayoutEngine
 
@@ -85,8 +86,12 @@ def styled(fn):
 
 
 def new_figure(width: float, height: float, **kw) -> Figure:
-    """A pyplot-free figure with constrained layout (inches)."""
-    return Figure(figsize=(width, height), layout="constrained", **kw)
+    """A pyplot-free figure with constrained layout (inches), on an Agg canvas: the
+    layout, the label placement and the PNG then share one renderer and its cache of
+    text sizes (a bare figure would measure its text on a renderer of its own)."""
+    fig = Figure(figsize=(width, height), layout="constrained", **kw)
+    FigureCanvasAgg(fig)
+    return fig
 
 
 def fix_layout(fig: Figure) -> None:
@@ -279,8 +284,6 @@ def place_labels(ax, labels) -> list:
     """Annotate each ``(text, (x, y), color)`` at the first offset of :data:`_LABEL_SPOTS`
     whose box crosses the fewest curve points and overlaps no placed label nor the
     legend and stays inside the axes; returns the annotations."""
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-
     fig = ax.figure
     canvas = fig.canvas if hasattr(fig.canvas, "get_renderer") else FigureCanvasAgg(fig)
     fix_layout(fig)  # the axes where they will be drawn (the legend is placed on demand)
