@@ -35,23 +35,25 @@ def plot_robustness(result: Result) -> Figure:
     fig = new_figure(7.6, 1.5 + 0.8 * max(len(picks), 1))
     ax = fig.add_subplot()
     models = list(result.spread)
+    ys = len(picks) - 1 - np.arange(len(picks))  # the first pick on top
+    idx = [i for i, _ in picks]
+    builds = [(result.build_margins.get(i), y) for i, y in zip(idx, ys, strict=True)]
+    builds = [(b, y) for b, y in builds if b is not None and len(b)]
+    if builds:  # one call for every pick's box (each call re-reads the rc settings)
+        ax.boxplot([b for b, _ in builds], positions=[y for _, y in builds],
+                   orientation="horizontal", widths=0.45, whis=(5, 95), showfliers=True,
+                   patch_artist=True, boxprops={"facecolor": "#dddddd", "edgecolor": "#555555"},
+                   medianprops={"color": "#333333"},
+                   flierprops={"marker": ".", "markersize": 2, "alpha": 0.4})
+    for j, m in enumerate(models):  # one row of markers per model above each box
+        v = np.asarray(result.spread[m], dtype=float)[idx]
+        ok = np.isfinite(v)
+        if ok.any():
+            ax.plot(v[ok], ys[ok] + 0.3 + 0.09 * j, _MODEL_MARKERS[j % len(_MODEL_MARKERS)],
+                    color=_MODEL_COLORS[j % len(_MODEL_COLORS)], ms=5,
+                    mfc=None if m in result.robust else "white", label=m, linestyle="none")
     labels = []
-    for k, (i, names) in enumerate(picks):  # a handful of picks
-        y = len(picks) - 1 - k
-        build = result.build_margins.get(i)
-        if build is not None and len(build):
-            ax.boxplot([build], positions=[y], orientation="horizontal", widths=0.45, whis=(5, 95),
-                       showfliers=True, patch_artist=True,
-                       boxprops={"facecolor": "#dddddd", "edgecolor": "#555555"},
-                       medianprops={"color": "#333333"},
-                       flierprops={"marker": ".", "markersize": 2, "alpha": 0.4})
-        for j, m in enumerate(models):  # one row of markers per model above the box
-            v = result.spread[m][i]
-            if np.isfinite(v):
-                ax.plot([v], [y + 0.3 + 0.09 * j], _MODEL_MARKERS[j % len(_MODEL_MARKERS)],
-                        color=_MODEL_COLORS[j % len(_MODEL_COLORS)], ms=5,
-                        mfc=None if m in result.robust else "white",
-                        label=m if k == 0 else None, linestyle="none")
+    for i, names in picks:
         mark = model_mark(result, i)
         y_txt = "" if result.yields is None else f", yield {percent(result.yields[i])}"
         labels.append(f"{result.ids[i]} ({' / '.join(PICKS[n].plot for n in names)})"
