@@ -37,8 +37,8 @@ def plot_robustness(result: Result) -> Figure:
     models = list(result.spread)
     ys = len(picks) - 1 - np.arange(len(picks))  # the first pick on top
     idx = [i for i, _ in picks]
-    builds = [(result.build_margins.get(i), y) for i, y in zip(idx, ys, strict=True)]
-    builds = [(b, y) for b, y in builds if b is not None and len(b)]
+    builds = [(b, y) for i, y in zip(idx, ys, strict=True)
+              if (b := result.build_margins.get(i)) is not None and len(b)]
     if builds:  # one call for every pick's box (each call re-reads the rc settings)
         ax.boxplot([b for b, _ in builds], positions=[y for _, y in builds],
                    orientation="horizontal", widths=0.45, whis=(5, 95), showfliers=True,
