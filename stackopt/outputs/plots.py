@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import functools
 import io
+import os
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
@@ -119,9 +120,31 @@ def figure_bytes(fig: Figure, fmt: str = "png") -> bytes:
     with mpl.rc_context(STYLE):  # type: ignore[arg-type]  # stubs want Literal rc keys
         fix_layout(fig)
         if fmt == "png":
-            fig.savefig(buf, format=fmt, metadata=meta, pil_kwargs=_PNG_ENCODER)
-        else:
-            fig.savefig(buf, format=fmt, metadata=meta)
+            return _png(fig)
+        fig.savefig(buf, format=fmt, metadata=meta)
+    return buf.getvalue()
+
+
+def _png(fig: Figure) -> bytes:
+    """The figure drawn by Agg and written as an RGB PNG (RGBA only where a pixel is not
+    opaque): matplotlib writes RGBA, whose alpha byte is 255 everywhere on an opaque
+    figure; without it the file is about a tenth smaller and quicker to compress."""
+    from PIL import Image
+    from PIL.PngImagePlugin import PngInfo
+
+    canvas = fig.canvas if isinstance(fig.canvas, FigureCanvasAgg) else FigureCanvasAgg(fig)
+    fig.savefig(os.devnull, format="rgba")  # drawn on this canvas at savefig.dpi; read below
+    rgba = np.asarray(canvas.buffer_rgba())  # a view of the canvas's pixels (H, W, 4)
+    height, width = rgba.shape[:2]
+    image = Image.frombuffer("RGBA", (width, height), rgba, "raw", "RGBA", 0, 1)
+    if image.getchannel("A").getextrema()[0] == 255:  # every pixel opaque
+        image = image.convert("RGB")
+    info = PngInfo()
+    for key, value in _PNG_META.items():
+        info.add_text(key, value)
+    dpi = float(mpl.rcParams["savefig.dpi"])
+    buf = io.BytesIO()
+    image.save(buf, format="png", pnginfo=info, dpi=(dpi, dpi), **_PNG_ENCODER)
     return buf.getvalue()
 
 
