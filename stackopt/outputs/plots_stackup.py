@@ -176,6 +176,7 @@ def plot_prepregs(result: Result) -> Figure:
                         for r in rows])
     ax1.invert_yaxis()
     ax1.set_xlabel("Margin (dB)")
+    ax1.locator_params(axis="x", nbins=6)  # signed decimals ("-17.5") need the room
     ax1.set_title("Margin of the cheapest board with it")
     fig.legend(loc="outside lower center", ncols=2, fontsize=7.5)
     cost = ev.unit_cost[cheap]
