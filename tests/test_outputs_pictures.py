@@ -111,3 +111,37 @@ def test_front_keeps_the_requirement_line_in_view():
     assert res.evaluation.margin[res.feasible].max() < 0
     lo, hi = plot_front(res).axes[0].get_ylim()
     assert lo < 0.0 < hi
+
+
+def test_robustness_boxes_show_the_builds_quartiles_and_whiskers():
+    # each pick's box spans numpy's 25th-75th percentile of its simulated builds (linear
+    # interpolation, Hyndman & Fan type 7) with the median inside; whiskers end on the most
+    # extreme build within the 5th-95th percentiles, and every build beyond is a dot
+    from matplotlib.collections import LineCollection, PolyCollection
+
+    from stackopt.outputs.facts import unique_picks
+    from stackopt.outputs.plots_robust import plot_robustness
+
+    res = run()
+    ax = plot_robustness(res).axes[0]
+    boxes = next(c for c in ax.collections if isinstance(c, PolyCollection)).get_paths()
+    lines = [c for c in ax.collections if isinstance(c, LineCollection)]
+    medians, whiskers = lines[0].get_segments(), lines[1].get_segments()
+    picks = unique_picks(res)
+    dots = [line for line in ax.get_lines() if line.get_marker() == "."]
+    n_out = 0
+    for k, (i, _) in enumerate(picks):
+        b = np.asarray(res.build_margins[i], dtype=float)
+        y = len(picks) - 1 - k
+        box = boxes[k].vertices
+        q1, med, q3 = np.percentile(b, [25, 50, 75])
+        assert box[:, 0].min() == pytest.approx(q1) and box[:, 0].max() == pytest.approx(q3)
+        assert box[:, 1].min() < y < box[:, 1].max()
+        assert medians[k][0][0] == pytest.approx(med)
+        p5, p95 = np.percentile(b, [5, 95])
+        lo, hi = b[b >= p5].min(), b[b <= p95].max()
+        ends = {round(float(x), 9) for seg in whiskers for x in seg[:, 0]
+                if np.allclose(seg[:, 1], y)}
+        assert round(float(lo), 9) in ends and round(float(hi), 9) in ends
+        n_out += int(np.sum((b < lo) | (b > hi)))
+    assert sum(len(d.get_xdata()) for d in dots) == n_out
