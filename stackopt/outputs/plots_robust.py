@@ -41,18 +41,18 @@ def _boxes(ax, samples: list[np.ndarray], ys: np.ndarray, height: float = 0.45) 
     q1, med, q3, lo, hi = (np.array([s[k] for s in st], dtype=float)
                            for k in ("q1", "med", "q3", "whislo", "whishi"))
     y0, y1 = ys - height / 2, ys + height / 2
-    ax.add_collection(PolyCollection(
-        np.stack([np.c_[q1, y0], np.c_[q3, y0], np.c_[q3, y1], np.c_[q1, y1]], axis=1),
+    ax.add_collection(PolyCollection(  # a list of (4, 2) corners: the stubs want a sequence
+        list(np.stack([np.c_[q1, y0], np.c_[q3, y0], np.c_[q3, y1], np.c_[q1, y1]], axis=1)),
         facecolors="#dddddd", edgecolors="#555555", linewidths=1.0, zorder=2.0))
     ax.add_collection(LineCollection(
-        np.stack([np.c_[med, y0], np.c_[med, y1]], axis=1), colors="#333333",
+        list(np.stack([np.c_[med, y0], np.c_[med, y1]], axis=1)), colors="#333333",
         linewidths=1.0, zorder=2.1))
     c0, c1 = ys - height / 4, ys + height / 4
-    ax.add_collection(LineCollection(np.concatenate([
+    ax.add_collection(LineCollection(list(np.concatenate([
         np.stack([np.c_[lo, ys], np.c_[q1, ys]], axis=1),  # whiskers
         np.stack([np.c_[q3, ys], np.c_[hi, ys]], axis=1),
         np.stack([np.c_[lo, c0], np.c_[lo, c1]], axis=1),  # caps
-        np.stack([np.c_[hi, c0], np.c_[hi, c1]], axis=1)]), colors="black", linewidths=1.0,
+        np.stack([np.c_[hi, c0], np.c_[hi, c1]], axis=1)])), colors="black", linewidths=1.0,
         zorder=2.0))
     fx = np.concatenate([s["fliers"] for s in st])
     fy = np.repeat(ys, [len(s["fliers"]) for s in st])
