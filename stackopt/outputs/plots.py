@@ -189,9 +189,11 @@ def plot_front(result: Result) -> Figure:
         _no_data(ax, "no candidate was evaluated")
         return fig
     bad = ~feas
+    # the faint clouds (rasterized) sit together above the grid (zorder 1.5): the SVG holds
+    # them as one embedded image instead of one per cloud
     if bad.any():
         ax.scatter(x[bad], y[bad], s=6, marker="x", color="0.6", alpha=0.25, linewidths=0.6,
-                   label=f"infeasible ({int(bad.sum())})", rasterized=True, zorder=1)
+                   label=f"infeasible ({int(bad.sum())})", rasterized=True, zorder=1.6)
     front = result.front_order
     for n in np.unique(layers):
         m = feas & (layers == n)
