@@ -5,8 +5,8 @@ from __future__ import annotations
 from typing import TYPE_CHECKING
 
 import numpy as np
+from matplotlib.collections import LineCollection, PolyCollection
 from matplotlib.figure import Figure
-from matplotlib.patches import Rectangle
 
 from stackopt.outputs.facts import cost_items, money_digits, unique_picks
 from stackopt.outputs.plots import new_figure, pick_color, plain, styled
@@ -47,20 +47,24 @@ def _draw_stackup(ax, st, title: str, color: str) -> None:
     total = st.thickness
     shown = [max(t, _MIN_COPPER * total) if k == "copper" else t for k, _, t, _ in rows]
     scale = total / sum(shown)  # keep the drawn total equal to the real one
-    z = 0.0
-    centres = []
-    for (kind, _text, _t, role), h in zip(rows, shown, strict=True):
-        h *= scale
-        fill = _FILL[kind]
-        hatch = "////" if kind == "copper" and role in ("ground", "power", "plane") else None
-        ax.add_patch(Rectangle((0.0, z), 0.34, h, facecolor=fill, edgecolor="black",
-                               lw=0.5, hatch=hatch))
-        centres.append(z + h / 2)
-        z += h
+    h = np.asarray(shown) * scale
+    z0 = np.cumsum(h) - h  # top of each layer
+    centres = z0 + h / 2
+    # one collection per fill style (hatched copper is a plane) and one for the leaders
+    plane = np.array([k == "copper" and r in ("ground", "power", "plane") for k, _, _, r in rows])
+    fills = np.array([_FILL[k] for k, _, _, _ in rows])
+    corners = np.stack([np.c_[0 * h, z0], np.c_[0 * h + 0.34, z0], np.c_[0 * h + 0.34, z0 + h],
+                        np.c_[0 * h, z0 + h]], axis=1)  # (layers, 4, 2)
+    for sel, hatch in ((~plane, None), (plane, "////")):
+        if sel.any():
+            ax.add_collection(PolyCollection(list(corners[sel]), facecolors=list(fills[sel]),
+                                             edgecolors="black", linewidths=0.5, hatch=hatch))
     n = len(rows)
     ys = np.linspace(0.0, total, n + 2)[1:-1] if n > 1 else np.array([total / 2])
-    for (kind, text, _t, _r), yc, yl in zip(rows, centres, ys, strict=True):
-        ax.plot([0.34, 0.40, 0.44], [yc, yl, yl], color="0.4", lw=0.5)
+    leaders = np.stack([np.c_[0 * ys + 0.34, centres], np.c_[0 * ys + 0.40, ys],
+                        np.c_[0 * ys + 0.44, ys]], axis=1)  # (layers, 3, 2)
+    ax.add_collection(LineCollection(list(leaders), colors="0.4", linewidths=0.5))
+    for (kind, text, _t, _r), yl in zip(rows, ys, strict=True):
         ax.text(0.45, yl, text, va="center", fontsize=LABEL_PT,
                 color="#7a3d10" if kind == "copper" else "black")
     ax.set_xlim(0, 1.75)
