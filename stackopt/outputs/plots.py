@@ -237,7 +237,9 @@ def plot_front(result: Result) -> Figure:
             what = plural(out, "candidate")
             ax.text(0.01, 0.01, f"{what} outside the plotted range, not shown"
                     + ("" if np.any(feas & ~inside) else " (all infeasible or failed)"),
-                    transform=ax.transAxes, fontsize=7.5, color="0.3", va="bottom")
+                    transform=ax.transAxes, fontsize=7.5, color="0.3", va="bottom",
+                    bbox={"boxstyle": "square,pad=0.15", "fc": "white", "ec": "none",
+                          "alpha": 0.8}, zorder=3.5)  # over the clouds, under the front
     ax.set_xlabel(f"Cost per board ({cur}, lot of {result.problem.scenario.board.quantity:,})")
     ax.set_ylabel(ylabel + ("" if higher else ", lower is better"))
     ax.set_title(f"Cost against performance: {result.n:,} candidates evaluated, "
