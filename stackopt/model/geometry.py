@@ -239,11 +239,16 @@ class LayerStack:
         h = self.height(la, self.ground_plane(la))
         return h[:, 0] if np.ndim(layer) == 0 else h
 
+    def planes_around(self, layer: ArrayLike = 0) -> tuple[np.ndarray, np.ndarray]:
+        """The nearest plane strictly above and strictly below ``layer``, (N, K) each;
+        -1 where there is none (the planes of :meth:`trace`, without its heights)."""
+        return _nearest(self.is_plane, self._layer(layer))
+
     def trace(self, layer: ArrayLike = 0) -> TraceGeometry:
         """Planes, heights and Dk above and below a trace on ``layer`` (stripline: both;
         microstrip on the top layer: only below), (N, K) each."""
         la = self._layer(layer)
-        up, down = _nearest(self.is_plane, la)
+        up, down = self.planes_around(la)
         return TraceGeometry(plane_above=up, height_above=self.height(la, up),
                              er_above=self.er_between(la, up), plane_below=down,
                              height_below=self.height(la, down),

@@ -47,14 +47,14 @@ def line_layers(stack: LayerStack, line_type: str, rule: str | int) -> np.ndarra
     each stackup, (N, L) bool (L: copper layers of the batch)."""
     n_cu = stack.role.shape[1]
     k = np.broadcast_to(np.arange(n_cu), stack.role.shape)
-    tg = stack.trace(k)
+    above, below = stack.planes_around(k)  # only where the planes are, not their heights
     last = (stack.n_layers - 1)[:, None]
     signal = np.isin(stack.role, _SIGNAL)
     if line_type in STRIPLINE_TYPES:
-        ok = signal & (tg.plane_above >= 0) & (tg.plane_below >= 0) & (k > 0) & (k < last)
+        ok = signal & (above >= 0) & (below >= 0) & (k > 0) & (k < last)
     else:
-        ok = signal & (((k == 0) & (tg.plane_below >= 0))
-                       | ((k == last) & (k > 0) & (tg.plane_above >= 0)))
+        ok = signal & (((k == 0) & (below >= 0))
+                       | ((k == last) & (k > 0) & (above >= 0)))
     if isinstance(rule, str):  # "outer" / "inner": the type already restricts the side
         return ok
     return ok & (k == int(rule))

@@ -133,7 +133,13 @@ def guard_coupling(self_l: ArrayLike, mutual: ArrayLike, include: ArrayLike | No
     if include is not None:
         inc = np.asarray(include, dtype=bool)
         k = np.where(inc[..., :, None] & inc[..., None, :], k, 0.0)
-    lam = np.linalg.eigvalsh(k)[..., 0] if n > 1 else np.zeros(m.shape[:-2])
+    # Gershgorin: every eigenvalue of K is at least -max_i sum_j |K_ij|, so where that
+    # bound keeps lambda_min(I + K) >= f the factor is exactly 1; the eigenvalues are
+    # solved only for the other matrices (few: the guard rarely acts).
+    radius = np.abs(k).sum(axis=-1).max(axis=-1) if n > 1 else np.zeros(m.shape[:-2])
+    need = radius > 1.0 - GUARD_FLOOR
+    lam = np.zeros(radius.shape)
+    lam[need] = np.linalg.eigvalsh(k[need])[..., 0] if n > 1 else 0.0
     alpha = np.minimum(1.0, (1.0 - GUARD_FLOOR) / np.maximum(-lam, 1e-300))
     return alpha[..., None, None] * m, alpha
 
