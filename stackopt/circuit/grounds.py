@@ -51,30 +51,25 @@ from stackopt.errors import InputError
 from stackopt.physics.inductance import DEFAULT_VIA_MODEL, check_via_model
 from stackopt.physics.lines import pad_trace_inductance
 from stackopt.physics.mounting import mount_height, mounted_inductance
-from stackopt.physics.parallel import (
-    guard_coupling,
-    parallel_via_inductance,
-    row_positions,
-    via_mutual_inductance,
+from stackopt.circuit.viasets import (
+    DEFAULT_PITCH_DRILLS,
+    STITCH_VIAS,
+    ViaBatch,
+    row_axes,
+    terminal_vias,
+    via_terms,
 )
+from stackopt.physics.parallel import guard_coupling
 
 __all__ = ["GroundBatch", "GroundParts", "ground_parts", "ground_inductance_matrix",
-           "worst_path_and_coupling",
+           "worst_path_and_coupling", "terminal_vias",
            "ground_breakdown", "row_axes", "DEFAULT_PITCH_DRILLS",
            "DEFAULT_POUR_GAP", "STITCH_VIAS"]
 
-#: Via pitch, in drills, where a ground connection does not give one (common practice,
-#: no source: room for the pads' annular rings and the fab's hole-to-hole spacing).
-DEFAULT_PITCH_DRILLS = 3.0
 #: Pad-to-pour clearance of a coplanar ground pour, m (0.2 mm: a usual coplanar gap on
 #: FR-4 boards, well above the 0.1-0.15 mm minimum spaces of common fabs; common
 #: practice, no source).
 DEFAULT_POUR_GAP = 0.2e-3
-#: Stitching vias a coplanar pour adds per ground connection: one beyond each end of the
-#: connection's via row, at the connection's pitch (common practice, no source).
-STITCH_VIAS = 2
-
-
 @dataclass(frozen=True)
 class GroundBatch:
     """What N candidate stackups do to the ground connections (1-D arrays of N).
@@ -161,85 +156,12 @@ class GroundBatch:
 
     @property
     def own_landing(self) -> np.ndarray:
-        """Every element has its own via set: ``own_vias`` or a coplanar pour (N,)."""
-        return self.own_vias | self.coplanar
+        """Every element has its own via set (:attr:`ViaBatch.own_landing`) (N,)."""
+        return ViaBatch.of(self).own_landing
 
     def take(self, idx: ArrayLike) -> GroundBatch:
         """The candidates at ``idx`` (indices or mask)."""
         return GroundBatch(*(getattr(self, f.name)[idx] for f in fields(self)))
-
-
-def row_axes(xy: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Unit row direction ``u`` and normal ``v`` (C, 2) of each connection's via row.
-
-    The row runs across the axis to the nearest other connection (the principal axis of
-    the nearest ones, when several are equally near), so via rows of neighbouring
-    connections stand side by side and never point at each other, and the layout turns
-    with the board: rotating every position rotates every row with it (the result does
-    not depend on how the board is oriented). A lone connection's row runs along x.
-    ``v`` points from the row along that axis, away from the connections' centroid.
-    """
-    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
-    c = len(xy)
-    u = np.tile([1.0, 0.0], (c, 1))
-    if c < 2:
-        return u, np.tile([0.0, 1.0], (c, 1))
-    diff = xy[None, :, :] - xy[:, None, :]  # (C, C, 2): from c to every other
-    dist = np.hypot(diff[..., 0], diff[..., 1]) + np.where(np.eye(c, dtype=bool), np.inf, 0)
-    near = dist <= dist.min(axis=1, keepdims=True) * (1 + 1e-9)
-    unit = diff / np.where(np.isfinite(dist), dist, 1.0)[..., None]
-    tensor = np.einsum("ij,ijk,ijl->ikl", near.astype(float), unit, unit)
-    w, vec = np.linalg.eigh(tensor)
-    axis = vec[..., -1]  # principal axis towards the nearest neighbour(s)
-    axis = np.where((w[:, 1] - w[:, 0] > 1e-9 * w[:, 1])[:, None], axis, [0.0, 1.0])
-    away = xy - xy.mean(axis=0)
-    sign = np.where(np.einsum("ik,ik->i", axis, away) < -1e-12 * (np.abs(away).max() + 1),
-                    -1.0, 1.0)
-    v = axis * sign[:, None]
-    u = np.column_stack([v[:, 1], -v[:, 0]])
-    return u, v
-
-
-def _terminal_vias(c: CompiledCircuit, batch: GroundBatch
-                   ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """Via centres (N, G, V, 2), mask (N, G, V), count (N, G) and drill (N, G) of the
-    ground terminals (the first ``c.n_ground_terminals``)."""
-    conn = c.terminal_conn[:c.n_ground_terminals]
-    u_c, v_c = row_axes(c.conn_xy)
-    u, v = u_c[conn], v_c[conn]  # (G, 2)
-    fixed = c.conn_vias[conn]
-    count = np.where(fixed > 0, fixed, batch.vias[:, None])
-    drill = np.where(np.isnan(c.conn_drill[conn]), batch.drill[:, None], c.conn_drill[conn])
-    pitch = np.where(np.isnan(c.conn_pitch[conn]), DEFAULT_PITCH_DRILLS * drill,
-                     c.conn_pitch[conn])
-    vmax = int(count.max(initial=1))  # initial: an empty batch (N = 0) is valid
-    along = np.zeros(count.shape + (vmax,))  # position along the row, m
-    for k in np.unique(count):  # a handful of via counts
-        row = np.zeros(count.shape + (vmax,))
-        row[..., :k] = row_positions(int(k), pitch)[..., 0]
-        along = np.where((count == k)[..., None], row, along)
-    if np.any(batch.coplanar):  # stitching vias one pitch beyond each end of the row
-        cop = np.broadcast_to(np.asarray(batch.coplanar)[:, None], count.shape)
-        k = np.arange(vmax + STITCH_VIAS)[None, None, :]
-        inside = k[..., :vmax] < count[..., None]
-        ext = np.max(np.where(inside, np.abs(along), 0.0), axis=-1) + pitch
-        along = np.concatenate([along, np.zeros(count.shape + (STITCH_VIAS,))], axis=-1)
-        lo = cop[..., None] & (k == count[..., None])
-        hi = cop[..., None] & (k == count[..., None] + 1)
-        along = np.where(lo, -ext[..., None], np.where(hi, ext[..., None], along))
-        count = count + STITCH_VIAS * cop
-        vmax += STITCH_VIAS
-    shift = np.where(batch.own_landing[:, None], c.terminal_rank[None, :len(conn)] * pitch,
-                     0.0)
-    xy = (along[..., None] * u[None, :, None, :] + shift[..., None, None] * v[None, :, None, :]
-          + c.conn_xy[conn][None, :, None, :])
-    for t, cn in enumerate(conn):  # explicit coordinates (a few terminals)
-        off = c.conn_offsets[cn]
-        if off is not None:
-            xy[:, t, :len(off)] = (c.conn_xy[cn] + off
-                                   + shift[:, t, None, None] * v[t][None, None, :])
-    mask = np.arange(vmax)[None, None, :] < count[..., None]
-    return xy, mask, count, drill
 
 
 @dataclass(frozen=True)
@@ -273,20 +195,8 @@ def ground_parts(compiled: CompiledCircuit, batch: GroundBatch, model: str = DEF
         body[None, :, 0], body[None, :, 1],
         mount_height(h, batch.copper[:, None], body[None, :, 2])), nan=0.0)
     lmount = np.broadcast_to(lmount, (n, g))
-    guard = np.ones(n)
-    lvia = np.zeros((n, g0))
-    if g0:
-        xy, mask, count, drill = _terminal_vias(compiled, batch)
-        hb = np.broadcast_to(h, (n, g0))
-        for v in np.unique(count):  # a handful of via counts; each (candidate, terminal) once
-            sel = count == v
-            lvia[sel], a = parallel_via_inductance(hb[sel], drill[sel], xy[sel][:, :v, :],
-                                                   model, with_guard=True)
-            guard_t = np.ones((n, g0))
-            guard_t[sel] = a
-            guard = np.minimum(guard, guard_t.min(axis=1))
-    scale = np.asarray(batch.via_scale)[:, None]  # calibration: via self and mutual terms
-    lvia = lvia * scale
+    vt = via_terms(compiled, ViaBatch.of(batch), model, mutual=mutual)
+    lvia, guard = vt.via, vt.guard
     conn = compiled.terminal_conn[:g0]
     trace = compiled.conn_trace_length[conn][None, :]
     bridge = np.minimum(trace, np.asarray(batch.pour_gap)[:, None])  # pad-to-pour
@@ -301,18 +211,9 @@ def ground_parts(compiled: CompiledCircuit, batch: GroundBatch, model: str = DEF
     eye = np.eye(g0, dtype=bool)
     out = np.where(shared, self_l[:, :, None], 0.0)
     if mutual and g0 > 1:
-        i, j = np.triu_indices(g0, 1)  # each pair of terminals once
-        diff = xy[:, i, :, None, :] - xy[:, j, None, :, :]
-        s = np.hypot(diff[..., 0], diff[..., 1])  # (N, P, V, V)
-        pair = mask[:, i, :, None] & mask[:, j, None, :]
-        dd = 0.5 * (drill[:, i] + drill[:, j])[..., None, None]
-        m = via_mutual_inductance(h[..., None, None], np.maximum(s, dd)) * scale[..., None, None]
-        mean = np.zeros((n, g0, g0))
-        mean[:, i, j] = (m * pair).sum(axis=(-1, -2)) / pair.sum(axis=(-1, -2))
-        mean[:, j, i] = mean[:, i, j]
         # one representative row per shared via (the others repeat it by construction)
         rep = ~(shared & (np.arange(g0)[None, None, :] < np.arange(g0)[None, :, None])).any(-1)
-        mean, a = guard_coupling(self_l, np.where(shared, 0.0, mean), include=rep)
+        mean, a = guard_coupling(self_l, np.where(shared, 0.0, vt.mutual), include=rep)
         guard = np.minimum(guard, a)
         out = np.where(shared | eye, out, mean)
     out = np.where(eye, self_l[:, :, None], out)

@@ -13,7 +13,8 @@ from __future__ import annotations
 import numpy as np
 
 from stackopt.circuit.compile import CompiledCircuit, compile_circuit
-from stackopt.circuit.grounds import GroundBatch, _terminal_vias
+from stackopt.circuit.grounds import GroundBatch
+from stackopt.circuit.viasets import ViaBatch, terminal_vias
 from stackopt.errors import InputError
 from stackopt.model.circuit import Circuit
 
@@ -35,7 +36,7 @@ def closest_vias(compiled: CompiledCircuit, drill: float, vias: int, min_space: 
     flags = np.array([[a, b] for a in (False, True) for b in (False, True)])
     batch = GroundBatch.broadcast(height=1e-3, drill=drill, vias=vias, own_vias=flags[:, 0],
                                   coplanar=flags[:, 1])
-    xy, mask, _, dr = _terminal_vias(compiled, batch)
+    xy, mask, _, dr = terminal_vias(compiled, ViaBatch.of(batch))
     conn = compiled.terminal_conn[:compiled.n_ground_terminals]
     g = len(conn)
     for i in range(g):  # a handful of terminals
