@@ -47,10 +47,6 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from stackopt.circuit.compile import CompiledCircuit
-from stackopt.errors import InputError
-from stackopt.physics.inductance import DEFAULT_VIA_MODEL, check_via_model
-from stackopt.physics.lines import pad_trace_inductance
-from stackopt.physics.mounting import mount_height, mounted_inductance
 from stackopt.circuit.viasets import (
     DEFAULT_PITCH_DRILLS,
     STITCH_VIAS,
@@ -59,6 +55,10 @@ from stackopt.circuit.viasets import (
     terminal_vias,
     via_terms,
 )
+from stackopt.errors import InputError
+from stackopt.physics.inductance import DEFAULT_VIA_MODEL, check_via_model
+from stackopt.physics.lines import pad_trace_inductance
+from stackopt.physics.mounting import mount_height, mounted_inductance
 from stackopt.physics.parallel import guard_coupling
 
 __all__ = ["GroundBatch", "GroundParts", "ground_parts", "ground_inductance_matrix",
