@@ -78,13 +78,22 @@ def _at(a: np.ndarray, idx: np.ndarray) -> np.ndarray:
     return np.take_along_axis(a, np.clip(idx, 0, a.shape[-1] - 1), axis=-1)
 
 
-def _nearest(mask: np.ndarray, layer: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Index of the nearest True layer strictly above and strictly below ``layer`` (N, K);
-    -1 where there is none."""
+def _reach(mask: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(last True layer at or above, first True layer at or below) every layer (N, L);
+    -1 and L where there is none."""
     n_cu = mask.shape[-1]
     k = np.arange(n_cu)
-    ups = np.maximum.accumulate(np.where(mask, k, -1), axis=-1)  # last True at or above
+    ups = np.maximum.accumulate(np.where(mask, k, -1), axis=-1)
     downs = np.minimum.accumulate(np.where(mask, k, n_cu)[:, ::-1], axis=-1)[:, ::-1]
+    return ups, downs
+
+
+def _nearest(reach: tuple[np.ndarray, np.ndarray], layer: np.ndarray
+             ) -> tuple[np.ndarray, np.ndarray]:
+    """Index of the nearest True layer strictly above and strictly below ``layer`` (N, K)
+    of a mask given by its :func:`_reach`; -1 where there is none."""
+    ups, downs = reach
+    n_cu = ups.shape[-1]
     above = np.where(layer > 0, _at(ups, layer - 1), -1)
     below = np.where(layer < n_cu - 1, _at(downs, layer + 1), n_cu)
     return above, np.where(below < n_cu, below, -1)
@@ -180,6 +189,16 @@ class LayerStack:
 
     # ---- running sums from the top (each once per stack) ------------------------------
     @cached_property
+    def _plane_reach(self) -> tuple[np.ndarray, np.ndarray]:
+        """:func:`_reach` of the plane layers, found once per batch."""
+        return _reach(self.is_plane)
+
+    @cached_property
+    def _ground_reach(self) -> tuple[np.ndarray, np.ndarray]:
+        """:func:`_reach` of the ground layers, found once per batch."""
+        return _reach(self.role == _GROUND)
+
+    @cached_property
     def _sum_dielectric(self) -> np.ndarray:
         """Dielectric thickness above each copper layer, m (N, L)."""
         return _prefix(self.dielectric)
@@ -222,13 +241,13 @@ class LayerStack:
         """The nearest plane to ``layer`` other than itself (a tie: the one above), (N, K);
         -1 if the board has none."""
         la = self._layer(layer)
-        return _closest(*_nearest(self.is_plane, la), la)
+        return _closest(*_nearest(self._plane_reach, la), la)
 
     def ground_plane(self, layer: ArrayLike = 0) -> np.ndarray:
         """The plane a ground via from ``layer`` goes to: the nearest ``ground`` layer (a
         tie: the one above), else the nearest plane of any kind; -1 if none (N, K)."""
         la = self._layer(layer)
-        g = _closest(*_nearest(self.role == _GROUND, la), la)
+        g = _closest(*_nearest(self._ground_reach, la), la)
         return np.where(g >= 0, g, self.reference_plane(la))
 
     def via_height(self, layer: ArrayLike = 0) -> np.ndarray:
@@ -242,7 +261,7 @@ class LayerStack:
     def planes_around(self, layer: ArrayLike = 0) -> tuple[np.ndarray, np.ndarray]:
         """The nearest plane strictly above and strictly below ``layer``, (N, K) each;
         -1 where there is none (the planes of :meth:`trace`, without its heights)."""
-        return _nearest(self.is_plane, self._layer(layer))
+        return _nearest(self._plane_reach, self._layer(layer))
 
     def trace(self, layer: ArrayLike = 0) -> TraceGeometry:
         """Planes, heights and Dk above and below a trace on ``layer`` (stripline: both;
