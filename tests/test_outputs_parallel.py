@@ -65,3 +65,76 @@ def test_the_candidates_table_in_blocks_on_several_cores_is_the_whole_table(monk
     for n in ("1", "2"):
         monkeypatch.setenv("STACKOPT_JOBS", n)
         assert render_all(result)["candidates.csv"] == whole.encode("utf-8")
+
+
+def _drawer_or_skip(warm=lambda: None):
+    from stackopt.outputs.drawer import Drawer
+
+    d = Drawer.start(warm)
+    if d is None:
+        pytest.skip("fork is not available here")
+    return d
+
+
+def _pid() -> int:
+    import os
+
+    return os.getpid()
+
+
+def _fail(msg: str) -> None:
+    raise ValueError(msg)
+
+
+def test_files_drawn_by_a_drawer_started_before_the_search_are_the_serial_bytes(monkeypatch):
+    # The drawer forks before the search and receives the result pickled: every file must
+    # still be the bytes one process writes (figures, the candidates table, the report).
+    from stackopt.outputs.bundle import render_all, warm
+
+    monkeypatch.setenv("STACKOPT_JOBS", "2")
+    drawer = _drawer_or_skip(warm)
+    result = run()
+    with drawer:
+        drawn = render_all(result, drawer=drawer)
+    monkeypatch.setenv("STACKOPT_JOBS", "1")
+    serial = render_all(result)
+    assert list(drawn) == list(serial)
+    assert [k for k in drawn if drawn[k] != serial[k]] == []
+
+
+def test_a_drawer_runs_its_task_elsewhere_and_raises_its_error_here(monkeypatch):
+    import os
+
+    monkeypatch.setenv("STACKOPT_JOBS", "2")
+    with _drawer_or_skip() as d:
+        assert d.submit(_pid)
+        assert d.result() != os.getpid()
+    with _drawer_or_skip() as d:
+        assert d.submit(_fail, "boom")
+        with pytest.raises(ValueError, match="boom"):
+            d.result()
+
+
+def test_an_unpicklable_task_is_refused_and_the_caller_does_the_work(monkeypatch):
+    monkeypatch.setenv("STACKOPT_JOBS", "2")
+    d = _drawer_or_skip()
+    assert d.submit(_pid, lambda: None) is False  # a lambda does not pickle
+    assert not d._proc.is_alive()  # closed: nothing left behind
+
+
+def test_closing_a_busy_drawer_ends_it_with_its_workers(monkeypatch):
+    import time
+
+    monkeypatch.setenv("STACKOPT_JOBS", "2")
+    d = _drawer_or_skip()
+    assert d.submit(time.sleep, 60)
+    t = time.perf_counter()
+    d.close()
+    assert time.perf_counter() - t < 10 and not d._proc.is_alive()
+
+
+def test_one_core_starts_no_drawer(monkeypatch):
+    from stackopt.outputs.drawer import Drawer
+
+    monkeypatch.setenv("STACKOPT_JOBS", "1")
+    assert Drawer.start(lambda: None) is None

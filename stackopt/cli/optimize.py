@@ -95,7 +95,8 @@ def run(args: argparse.Namespace) -> int:
     import stackopt
     from stackopt.analyses.quantities import quantity_sweep
     from stackopt.errors import Interrupted
-    from stackopt.outputs.bundle import write_all
+    from stackopt.outputs.bundle import warm, write_all
+    from stackopt.outputs.drawer import Drawer
     from stackopt.outputs.files import prepare_out_dir
     from stackopt.outputs.resultdir import pause_point
     from stackopt.search.memo import ResponseMemo
@@ -119,6 +120,12 @@ def run(args: argparse.Namespace) -> int:
         bar.close()
         builds(done, total)
 
+    # the figures' libraries load on the other core while the search runs; the search's
+    # own modules are loaded first, once, and shared with it
+    import stackopt.analyses.robust  # noqa: F401
+    import stackopt.search.api  # noqa: F401
+
+    drawer = Drawer.start(warm)
     try:
         pause_point("search")
         result = stackopt.optimize(inp.scenario, inp.table, seed=args.seed,
@@ -133,7 +140,8 @@ def run(args: argparse.Namespace) -> int:
                                    main=result)
         extra = {"inputs": {"scenario": str(inp.scenario_path.name),
                             "cost_table": str(inp.table_path.name), "sha256": inp.hashes()}}
-        write_all(result, out, force=args.force, extra_summary=extra, sweep=sweep)
+        write_all(result, out, force=args.force, extra_summary=extra, sweep=sweep,
+                  drawer=drawer)
     except InputError as exc:  # a rule of the search: it concerns the scenario's keys
         if exc.file is not None:
             raise
@@ -144,6 +152,9 @@ def run(args: argparse.Namespace) -> int:
         if exc.out is None:
             exc.out = out
         raise
+    finally:
+        if drawer is not None:
+            drawer.close()
     if args.quiet:
         return 0
     say_result(result, say)

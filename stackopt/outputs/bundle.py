@@ -26,9 +26,11 @@ from stackopt.outputs.resultdir import write_result
 
 if TYPE_CHECKING:
     from stackopt.analyses.quantities import QuantitySweep
+    from stackopt.outputs.drawer import Drawer
+    from stackopt.outputs.parallel import Job
     from stackopt.search.results import Result
 
-__all__ = ["FILES", "render_all", "write_all"]
+__all__ = ["FILES", "drawing_jobs", "drawn", "render_all", "warm", "write_all"]
 
 #: The fixed file names, in writing order.
 FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.md",
@@ -54,34 +56,28 @@ def _touchstone(result: Result, i: int) -> str:
     return touchstone_text(f, s[0], pb.compiled.z0, comment=comment)
 
 
-def render_all(result: Result, extra_summary: dict | None = None,
-               sweep: QuantitySweep | None = None) -> dict[str, bytes]:
-    """Every output file's bytes, by file name (nothing is written). The mitigation
-    files and summary key come only from a design space with two-layer boards
-    (``mitigation_ladder`` is ``null`` otherwise); ``quantities.png``, the report's cost
-    against quantity and the summary's ``quantity_sweep`` only with a ``sweep``
-    (:class:`~stackopt.analyses.quantities.QuantitySweep`)."""
-    from stackopt.analyses.ideal import ideal_ground
-    from stackopt.outputs.case import four_layer_case
-    from stackopt.outputs.parallel import Job, render
+def warm() -> None:
+    """Import what drawing the figures and formatting the tables needs (a
+    :class:`~stackopt.outputs.drawer.Drawer` does this while the search runs)."""
+    import matplotlib.backends.backend_agg  # noqa: F401
+    import matplotlib.figure  # noqa: F401
+
+    import stackopt.outputs.plots  # noqa: F401
+    import stackopt.outputs.plots_ladder  # noqa: F401
+    import stackopt.outputs.plots_robust  # noqa: F401
+    import stackopt.outputs.plots_stackup  # noqa: F401
+    import stackopt.outputs.sweep  # noqa: F401
+
+
+def drawing_jobs(result: Result, sweep: QuantitySweep | None = None) -> dict[str, Job]:
+    """The figures and the candidates table's blocks as jobs (name -> bytes, or several
+    named files), independent of each other and of the text outputs."""
     from stackopt.outputs.plots import figure_bytes, plot_front, plot_response
     from stackopt.outputs.plots_ladder import plot_mitigations
     from stackopt.outputs.plots_stackup import plot_costs, plot_prepregs, plot_stackups
-    from stackopt.outputs.prepregs import prepreg_summary
-    from stackopt.outputs.report import IMAGE_FILES, report_html, report_markdown
 
     ladder = result.ladder
-    extra = {**(extra_summary or {}),
-             "ideal_ground": ideal_ground(result.problem).to_summary(),
-             "four_layer_case": four_layer_case(result).to_summary(result),
-             "passband": passband_summary(result),
-             "prepregs": prepreg_summary(result),
-             "mitigation_ladder": ladder.to_summary() if ladder is not None else None}
-    if sweep is not None:
-        from stackopt.outputs.sweep import plot_quantities, sweep_summary
 
-        extra["quantity_sweep"] = sweep_summary(sweep)
-    # figures and the large CSV are independent: drawn on every free core (parallel.py)
     def front() -> dict[str, bytes]:  # one figure, PNG first then SVG as in one process
         fig = plot_front(result)
         return {"pareto": figure_bytes(fig, "png"), "pareto.svg": figure_bytes(fig, "svg")}
@@ -96,8 +92,7 @@ def render_all(result: Result, extra_summary: dict | None = None,
     # the table's whole-batch columns (heights, Dk, flags) computed here once, before
     # the fork, instead of once in every worker
     result.frame(np.zeros(0, dtype=np.int64))
-    blocks = csv_blocks(result)  # the large table in blocks, shared between the cores
-    for k in range(blocks):
+    for k in range(csv_blocks(result)):  # the large table in blocks, shared by the cores
         jobs[f"candidates.csv#{k}"] = functools.partial(_csv_block, result, k)
     if result.robust:
         from stackopt.outputs.plots_robust import plot_robustness
@@ -106,24 +101,53 @@ def render_all(result: Result, extra_summary: dict | None = None,
     if ladder is not None and not ladder.blocked:  # a blocked ladder has nothing to plot
         jobs["mitigations"] = lambda: figure_bytes(plot_mitigations(ladder, result), "png")
     if sweep is not None:
-        jobs["quantities"] = lambda: figure_bytes(plot_quantities(sweep), "png")
-    def texts() -> dict[str, bytes]:  # this process's share while the workers draw
-        out = {"summary.json": summary_json(result, extra).encode("utf-8"),
-               "front.csv": front_csv(result).encode("utf-8")}
-        if ladder is not None:
-            out["mitigations.csv"] = mitigations_csv(ladder).encode("utf-8")
-        out["report.md"] = report_markdown(result, IMAGE_FILES, sweep).encode("utf-8")
-        out["selected.yaml"] = selected_yaml(result).encode("utf-8")
-        i = selected_index(result)
-        if i is not None:
-            out["selected.s2p"] = _touchstone(result, i).encode("ascii")
-        out.update((k, v.encode("utf-8")) for k, v in stackup_files(result).items())
-        return out
+        from stackopt.outputs.sweep import plot_quantities
 
-    images, out = render(jobs, meanwhile=texts)  # name -> bytes (a job may give several)
-    assert out is not None
-    out["candidates.csv"] = b"".join([images.pop(f"candidates.csv#{k}")
-                                      for k in range(blocks)])
+        jobs["quantities"] = lambda: figure_bytes(plot_quantities(sweep), "png")
+    return jobs
+
+
+def drawn(result: Result, sweep: QuantitySweep | None = None) -> dict[str, bytes]:
+    """Every job of :func:`drawing_jobs` run on every free core, by output name."""
+    from stackopt.outputs.parallel import render
+
+    return render(drawing_jobs(result, sweep))[0]
+
+
+def render_all(result: Result, extra_summary: dict | None = None,
+               sweep: QuantitySweep | None = None, drawer: Drawer | None = None
+               ) -> dict[str, bytes]:
+    """Every output file's bytes, by file name (nothing is written). The mitigation
+    files and summary key come only from a design space with two-layer boards
+    (``mitigation_ladder`` is ``null`` otherwise); ``quantities.png``, the report's cost
+    against quantity and the summary's ``quantity_sweep`` only with a ``sweep``
+    (:class:`~stackopt.analyses.quantities.QuantitySweep`).
+
+    The figures and the candidates table are drawn by ``drawer`` (a
+    :class:`~stackopt.outputs.drawer.Drawer` started before the search) if given, else
+    by workers forked now (:func:`stackopt.outputs.parallel.render`), while this
+    process writes the summary, the tables and the reports; the bytes are the same.
+    """
+    from stackopt.outputs.parallel import render
+
+    sent = drawer is not None and drawer.submit(drawn, result, sweep)
+
+    def texts() -> dict[str, bytes]:  # this process's share while the others draw
+        return _texts(result, extra_summary, sweep)
+
+    if sent:
+        assert drawer is not None
+        out = texts()
+        images = drawer.result()
+    else:
+        images, mine = render(drawing_jobs(result, sweep), meanwhile=texts)
+        assert mine is not None
+        out = mine
+    from stackopt.outputs.report import IMAGE_FILES, report_html
+
+    blocks = sorted((k for k in images if k.startswith("candidates.csv#")),
+                    key=lambda k: int(k.rpartition("#")[2]))
+    out["candidates.csv"] = b"".join([images.pop(k) for k in blocks])
     out["pareto.svg"] = images.pop("pareto.svg")
     out["report.html"] = report_html(result, images, sweep).encode("utf-8")
     for key, name in IMAGE_FILES.items():
@@ -134,8 +158,41 @@ def render_all(result: Result, extra_summary: dict | None = None,
     return files
 
 
+def _texts(result: Result, extra_summary: dict | None, sweep: QuantitySweep | None
+           ) -> dict[str, bytes]:
+    """The summary, the tables, the report's text and the stackup files."""
+    from stackopt.analyses.ideal import ideal_ground
+    from stackopt.outputs.case import four_layer_case
+    from stackopt.outputs.prepregs import prepreg_summary
+    from stackopt.outputs.report import IMAGE_FILES, report_markdown
+
+    ladder = result.ladder
+    extra = {**(extra_summary or {}),
+             "ideal_ground": ideal_ground(result.problem).to_summary(),
+             "four_layer_case": four_layer_case(result).to_summary(result),
+             "passband": passband_summary(result),
+             "prepregs": prepreg_summary(result),
+             "mitigation_ladder": ladder.to_summary() if ladder is not None else None}
+    if sweep is not None:
+        from stackopt.outputs.sweep import sweep_summary
+
+        extra["quantity_sweep"] = sweep_summary(sweep)
+    out = {"summary.json": summary_json(result, extra).encode("utf-8"),
+           "front.csv": front_csv(result).encode("utf-8")}
+    if ladder is not None:
+        out["mitigations.csv"] = mitigations_csv(ladder).encode("utf-8")
+    out["report.md"] = report_markdown(result, IMAGE_FILES, sweep).encode("utf-8")
+    out["selected.yaml"] = selected_yaml(result).encode("utf-8")
+    i = selected_index(result)
+    if i is not None:
+        out["selected.s2p"] = _touchstone(result, i).encode("ascii")
+    out.update((k, v.encode("utf-8")) for k, v in stackup_files(result).items())
+    return out
+
+
 def write_all(result: Result, out_dir: str | Path, force: bool = False,
-              extra_summary: dict | None = None, sweep: QuantitySweep | None = None) -> list[Path]:
+              extra_summary: dict | None = None, sweep: QuantitySweep | None = None,
+              drawer: Drawer | None = None) -> list[Path]:
     """Render every output file and write them as one result into ``out_dir``, all or
     nothing (:func:`stackopt.outputs.resultdir.write_result`).
 
@@ -152,6 +209,8 @@ def write_all(result: Result, out_dir: str | Path, force: bool = False,
         Keys added to ``summary.json`` (e.g. input file hashes).
     sweep : QuantitySweep, optional
         Cost against quantity (see :func:`render_all`).
+    drawer : Drawer, optional
+        A drawing process started before the search (see :func:`render_all`).
 
     Returns
     -------
@@ -165,4 +224,4 @@ def write_all(result: Result, out_dir: str | Path, force: bool = False,
         then as it was.
     """
     prepare_out_dir(out_dir, force)  # before rendering: a refusal costs nothing
-    return write_result(out_dir, render_all(result, extra_summary, sweep), force)
+    return write_result(out_dir, render_all(result, extra_summary, sweep, drawer), force)

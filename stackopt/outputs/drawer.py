@@ -1,0 +1,122 @@
+"""A process that gets ready to draw while this one searches.
+
+The search runs on one core; the drawing libraries (matplotlib, pandas for the tables)
+take about a fifth of a second to import, and the other core is idle meanwhile. A
+:class:`Drawer` is forked before the search: it imports what drawing needs (``warm``)
+while the search runs, then waits. When the search is over it is sent one task (a
+module-level function and its arguments, pickled once: the search result is some
+megabytes, a few hundredths of a second) and returns the task's value, while this
+process does its own share. The figures it draws are the same bytes as drawn here: the
+result arrives bit for bit, and every figure reads only the result
+(``tests/test_outputs_parallel.py``).
+
+Nothing is started where :func:`stackopt.outputs.parallel.workers` allows only one
+process (no ``fork``, one core, or ``STACKOPT_JOBS=1``); callers then do the work
+themselves. The process never prints. It runs in a process group of its own (with the
+workers it forks to draw on every core), ignores Ctrl-C (this process handles it), ends
+when its pipe closes, and is ended with its workers when this process stops waiting for
+it: an interrupted or failed run leaves nothing behind.
+"""
+
+from __future__ import annotations
+
+import multiprocessing
+import os
+import signal
+from collections.abc import Callable
+from multiprocessing.connection import Connection
+from typing import Any
+
+from stackopt.outputs.parallel import workers
+
+__all__ = ["Drawer"]
+
+
+def _serve(conn: Connection, other: Connection, warm: Callable[[], None]) -> None:
+    """The forked process: warm up, run the one task it is sent, send its value back."""
+    other.close()  # the caller's end: closed here, so the caller closing it reads as EOF
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    os.setpgid(0, 0)  # its own group: close() ends it with the workers it forks
+    try:
+        warm()
+        task = conn.recv()  # EOFError: the caller closed without a task
+    except (EOFError, OSError):
+        return
+    fn, args = task
+    try:
+        reply: tuple[str, Any] = ("ok", fn(*args))
+    except BaseException as exc:  # raised again in the caller, as in one process
+        reply = ("error", exc)
+    try:
+        conn.send(reply)
+    except (BrokenPipeError, OSError):
+        pass
+
+
+class Drawer:
+    """A forked process that imports the drawing libraries now and runs one task later.
+
+    Use :meth:`start` (None where only one process may run), then :meth:`submit` a
+    module-level function and its arguments, do other work, and collect the value with
+    :meth:`result`. :meth:`close` ends the process (always call it; a ``with`` block
+    does).
+    """
+
+    def __init__(self, warm: Callable[[], None]) -> None:
+        ctx = multiprocessing.get_context("fork")
+        self._conn, child = ctx.Pipe()
+        self._proc = ctx.Process(target=_serve, args=(child, self._conn, warm),
+                                 name="stackopt-drawer")
+        self._proc.start()
+        try:  # also here: the group exists before start() returns (no race with close)
+            os.setpgid(self._proc.pid, self._proc.pid)
+        except OSError:  # it did it first
+            pass
+        child.close()
+        self._sent = self._done = False
+
+    @classmethod
+    def start(cls, warm: Callable[[], None]) -> Drawer | None:
+        """A drawer that runs ``warm()`` at once, or None where a second process is not
+        available (:func:`stackopt.outputs.parallel.workers`)."""
+        return cls(warm) if workers(2) >= 2 else None
+
+    def submit(self, fn: Callable[..., Any], *args: Any) -> bool:
+        """Send the task ``fn(*args)``; False (nothing sent, the drawer closed) if it
+        cannot be pickled or the drawer is gone: the caller then runs it itself."""
+        if self._sent:
+            raise RuntimeError("a drawer runs one task")
+        try:
+            self._conn.send((fn, args))
+        except Exception:  # unpicklable, or the process died: do it in the caller
+            self.close()
+            return False
+        self._sent = True
+        return True
+
+    def result(self) -> Any:
+        """The submitted task's value (waits for it); its exception is raised here."""
+        status, value = self._conn.recv()
+        self._done = True
+        self.close()
+        if status == "error":
+            raise value
+        return value
+
+    def close(self) -> None:
+        """End the process and wait for it: it exits when its pipe closes, or, while it
+        still works on a task nobody will collect, with its workers at once."""
+        if not self._conn.closed:
+            self._conn.close()
+        if self._sent and not self._done and self._proc.is_alive():
+            try:
+                os.killpg(self._proc.pid, signal.SIGTERM)
+            except (ProcessLookupError, PermissionError):
+                pass
+        self._proc.join()
+
+    def __enter__(self) -> Drawer:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
