@@ -68,8 +68,10 @@ class Drawer:
         self._proc = ctx.Process(target=_serve, args=(child, self._conn, warm),
                                  name="stackopt-drawer")
         self._proc.start()
+        assert self._proc.pid is not None
+        self._pid: int = self._proc.pid
         try:  # also here: the group exists before start() returns (no race with close)
-            os.setpgid(self._proc.pid, self._proc.pid)
+            os.setpgid(self._pid, self._pid)
         except OSError:  # it did it first
             pass
         child.close()
@@ -110,7 +112,7 @@ class Drawer:
             self._conn.close()
         if self._sent and not self._done and self._proc.is_alive():
             try:
-                os.killpg(self._proc.pid, signal.SIGTERM)
+                os.killpg(self._pid, signal.SIGTERM)
             except (ProcessLookupError, PermissionError):
                 pass
         self._proc.join()
