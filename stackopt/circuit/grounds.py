@@ -25,18 +25,18 @@ inductance
   element on a connection gets a copy of the connection (trace and vias) moved by one,
   two … pitches in +y.
 - ``coplanar``: a ground pour on the top layer around the pads, stitched to the plane.
-  Each element lands on the pour right beside its pad, so its pad-to-via trace becomes
-  the short pad-to-pour bridge (length ``min(trace, pour_gap)``, same width, still
+  Each element lands on the pour right beside its pad, so its pad-to-via trace becomes the
+  short pad-to-pour bridge (length ``min(trace, pour_gap)``, same width, still
   :func:`~stackopt.physics.lines.pad_trace_inductance`), every element lands on its own
   patch of pour (as with ``own_vias``), and the pour reaches the plane through the
-  connection's vias plus :data:`STITCH_VIAS` stitching vias flanking them, one pitch
-  beyond each end of the row (so ``n`` vias become a row of ``n + 2``, all in the partial
-  inductance matrix with their mutual terms). Assumptions: the pour between the bridge and
-  the vias is wide and short, its own inductance is neglected (optimistic when the
-  stitching vias sit more than about one dielectric thickness from the pad); each
-  connection's current returns through its own vias (no current crosses the pour to a
-  neighbouring connection), the via sets of different connections still couple through
-  the mutual term.
+  connection's vias plus :data:`~stackopt.circuit.viasets.STITCH_VIAS` stitching vias
+  flanking them, one pitch beyond each end of the row (so ``n`` vias become a row of
+  ``n + 2``, all in the partial inductance matrix with their mutual terms). Assumptions: the
+  pour between the bridge and the vias is wide and short, its own inductance is neglected
+  (optimistic when the stitching vias sit more than about one dielectric thickness from
+  the pad); each connection's current returns through its own vias (no current crosses the
+  pour to a neighbouring connection), the via sets of different connections still couple
+  through the mutual term.
 """
 
 from __future__ import annotations
@@ -47,14 +47,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from stackopt.circuit.compile import CompiledCircuit
-from stackopt.circuit.viasets import (
-    DEFAULT_PITCH_DRILLS,
-    STITCH_VIAS,
-    ViaBatch,
-    row_axes,
-    terminal_vias,
-    via_terms,
-)
+from stackopt.circuit.viasets import ViaBatch, via_terms
 from stackopt.errors import InputError
 from stackopt.physics.inductance import DEFAULT_VIA_MODEL, check_via_model
 from stackopt.physics.lines import pad_trace_inductance
@@ -62,14 +55,14 @@ from stackopt.physics.mounting import mount_height, mounted_inductance
 from stackopt.physics.parallel import guard_coupling
 
 __all__ = ["GroundBatch", "GroundParts", "ground_parts", "ground_inductance_matrix",
-           "worst_path_and_coupling", "terminal_vias",
-           "ground_breakdown", "row_axes", "DEFAULT_PITCH_DRILLS",
-           "DEFAULT_POUR_GAP", "STITCH_VIAS"]
+           "worst_path_and_coupling", "ground_breakdown", "DEFAULT_POUR_GAP"]
 
 #: Pad-to-pour clearance of a coplanar ground pour, m (0.2 mm: a usual coplanar gap on
 #: FR-4 boards, well above the 0.1-0.15 mm minimum spaces of common fabs; common
 #: practice, no source).
 DEFAULT_POUR_GAP = 0.2e-3
+
+
 @dataclass(frozen=True)
 class GroundBatch:
     """What N candidate stackups do to the ground connections (1-D arrays of N).

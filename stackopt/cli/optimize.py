@@ -140,8 +140,6 @@ def run(args: argparse.Namespace) -> int:
                                    main=result)
         extra = {"inputs": {"scenario": str(inp.scenario_path.name),
                             "cost_table": str(inp.table_path.name), "sha256": inp.hashes()}}
-        if drawer is not None:  # built once here and sent with the result, not in both
-            _ = result.ladder
         write_all(result, out, force=args.force, extra_summary=extra, sweep=sweep,
                   drawer=drawer)
     except InputError as exc:  # a rule of the search: it concerns the scenario's keys

@@ -187,7 +187,6 @@ class LayerStack:
         """Layers that are solid reference planes (N, L) bool."""
         return np.isin(self.role, _PLANE_CODES)
 
-    # ---- running sums from the top (each once per stack) ------------------------------
     @cached_property
     def _plane_reach(self) -> tuple[np.ndarray, np.ndarray]:
         """:func:`_reach` of the plane layers, found once per batch."""
@@ -198,6 +197,7 @@ class LayerStack:
         """:func:`_reach` of the ground layers, found once per batch."""
         return _reach(self.role == _GROUND)
 
+    # ---- running sums from the top (each once per stack) ------------------------------
     @cached_property
     def _sum_dielectric(self) -> np.ndarray:
         """Dielectric thickness above each copper layer, m (N, L)."""

@@ -40,6 +40,10 @@ FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.m
          "selected.yaml", "selected.s2p")
 
 
+#: Job name prefix of the candidates table's blocks (joined in job order).
+_CSV_BLOCK = "candidates.csv#"
+
+
 def _csv_block(result: Result, k: int) -> bytes:
     return candidates_csv(result, k).encode("utf-8")
 
@@ -93,7 +97,7 @@ def drawing_jobs(result: Result, sweep: QuantitySweep | None = None) -> dict[str
     # the fork, instead of once in every worker
     result.frame(np.zeros(0, dtype=np.int64))
     for k in range(csv_blocks(result)):  # the large table in blocks, shared by the cores
-        jobs[f"candidates.csv#{k}"] = functools.partial(_csv_block, result, k)
+        jobs[f"{_CSV_BLOCK}{k}"] = functools.partial(_csv_block, result, k)
     if result.robust:
         from stackopt.outputs.plots_robust import plot_robustness
 
@@ -129,24 +133,18 @@ def render_all(result: Result, extra_summary: dict | None = None,
     process writes the summary, the tables and the reports; the bytes are the same.
     """
     from stackopt.outputs.parallel import render
+    from stackopt.outputs.report import IMAGE_FILES, report_html
 
-    sent = drawer is not None and drawer.submit(drawn, result, sweep)
-
-    def texts() -> dict[str, bytes]:  # this process's share while the others draw
-        return _texts(result, extra_summary, sweep)
-
-    if sent:
-        assert drawer is not None
+    _ = result.ladder  # both shares read it: built once, before either process starts
+    texts = functools.partial(_texts, result, extra_summary, sweep)  # this process's share
+    if drawer is not None and drawer.submit(drawn, result, sweep):
         out = texts()
         images = drawer.result()
     else:
         images, mine = render(drawing_jobs(result, sweep), meanwhile=texts)
         assert mine is not None
         out = mine
-    from stackopt.outputs.report import IMAGE_FILES, report_html
-
-    blocks = sorted((k for k in images if k.startswith("candidates.csv#")),
-                    key=lambda k: int(k.rpartition("#")[2]))
+    blocks = [k for k in images if k.startswith(_CSV_BLOCK)]  # in job order
     out["candidates.csv"] = b"".join([images.pop(k) for k in blocks])
     out["pareto.svg"] = images.pop("pareto.svg")
     out["report.html"] = report_html(result, images, sweep).encode("utf-8")

@@ -136,10 +136,10 @@ def guard_coupling(self_l: ArrayLike, mutual: ArrayLike, include: ArrayLike | No
     # Gershgorin: every eigenvalue of K is at least -max_i sum_j |K_ij|, so where that
     # bound keeps lambda_min(I + K) >= f the factor is exactly 1; the eigenvalues are
     # solved only for the other matrices (few: the guard rarely acts).
-    radius = np.abs(k).sum(axis=-1).max(axis=-1) if n > 1 else np.zeros(m.shape[:-2])
-    need = radius > 1.0 - GUARD_FLOOR
-    lam = np.zeros(radius.shape)
-    lam[need] = np.linalg.eigvalsh(k[need])[..., 0] if n > 1 else 0.0
+    need = np.abs(k).sum(axis=-1).max(axis=-1, initial=0.0) > 1.0 - GUARD_FLOOR
+    lam = np.zeros(need.shape)
+    if n > 1:
+        lam[need] = np.linalg.eigvalsh(k[need])[..., 0]
     alpha = np.minimum(1.0, (1.0 - GUARD_FLOOR) / np.maximum(-lam, 1e-300))
     return alpha[..., None, None] * m, alpha
 
