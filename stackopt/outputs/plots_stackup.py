@@ -34,7 +34,7 @@ def _label_rows(st) -> list[tuple[str, str, float, str]]:
     for rec in st.to_records():
         t = rec["thickness_m"]
         if rec["kind"] == "copper":
-            text = f"{rec['name']} {rec['role']}, {t * 1e6:.0f} um"
+            text = f"{rec['name']} {rec['role']}, {t * 1e6:.0f} µm"
         else:
             text = (f"{plain(rec['material'])} {rec['kind']}, {t * 1e3:.3g} mm, "
                     f"Dk {rec['er']:.2f}")
