@@ -89,3 +89,21 @@ def test_only_elliptic_designs_import_scipy_signal():
     proc = subprocess.run([sys.executable, "-c", probe, "scenarios/harmonic_lowpass.yaml"],
                           capture_output=True, text=True, timeout=120)
     assert proc.stdout.strip() == "False", proc.stderr[-2000:]
+
+
+def test_the_texts_of_a_result_do_not_import_matplotlib():
+    # matplotlib takes about 0.3 s to import; the process that writes the summary, tables
+    # and reports while another draws the figures must not pay for it
+    probe = ("import sys, stackopt\n"
+             "from stackopt.cli.common import load_inputs\n"
+             "from stackopt.outputs import bundle\n"
+             "from stackopt.outputs.report import report_html\n"
+             "inp = load_inputs(None, None, None)\n"
+             "r = stackopt.optimize(inp.scenario, inp.table, seed=1)\n"
+             "out = bundle._texts(r, None, None)\n"
+             "assert b'robust' in out['report.md']\n"
+             "report_html(r, {}, None)\n"
+             "print(sorted(m for m in sys.modules if m.startswith('matplotlib')))")
+    proc = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True,
+                          timeout=120)
+    assert proc.stdout.strip() == "[]", proc.stderr[-2000:]

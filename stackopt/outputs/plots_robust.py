@@ -16,16 +16,10 @@ from stackopt.search.picks import PICKS
 if TYPE_CHECKING:
     from stackopt.search.results import Result
 
-__all__ = ["plot_robustness", "ROBUSTNESS_SENTENCE"]
+__all__ = ["plot_robustness"]
 
 _MODEL_MARKERS = ("o", "s", "^", "D", "v", "P")
 _MODEL_COLORS = ("#1f77b4", "#d62728", "#2ca02c", "#9467bd", "#8c564b", "#17becf")
-#: The report's sentence beside the figure.
-ROBUSTNESS_SENTENCE = (
-    "Each pick's margin under every via model (markers) and over the simulated builds "
-    "within the fab's and the parts' tolerances (box: middle half, whiskers: 5-95 %, "
-    "dots beyond); a pick is robust when every marker and nearly all builds lie right "
-    "of the 0 dB line.")
 
 
 def _boxes(ax, samples: list[np.ndarray], ys: np.ndarray, height: float = 0.45) -> None:

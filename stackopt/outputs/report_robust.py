@@ -9,7 +9,6 @@ import math
 from typing import TYPE_CHECKING
 
 from stackopt.outputs.facts import db, selected_index, unique_picks
-from stackopt.outputs.plots_robust import ROBUSTNESS_SENTENCE
 from stackopt.outputs.robust_text import (
     MODEL_RULE,
     limit_line,
@@ -22,7 +21,14 @@ from stackopt.search.picks import PICKS
 if TYPE_CHECKING:
     from stackopt.search.results import Result
 
-__all__ = ["recommendation_blocks", "robustness_section", "margin_cell"]
+__all__ = ["recommendation_blocks", "robustness_section", "margin_cell", "ROBUSTNESS_SENTENCE"]
+
+#: The report's sentence beside ``robustness.png``.
+ROBUSTNESS_SENTENCE = (
+    "Each pick's margin under every via model (markers) and over the simulated builds "
+    "within the fab's and the parts' tolerances (box: middle half, whiskers: 5-95 %, "
+    "dots beyond); a pick is robust when every marker and nearly all builds lie right "
+    "of the 0 dB line.")
 
 
 def margin_cell(result: Result, i: int) -> str:
