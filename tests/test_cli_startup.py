@@ -107,3 +107,24 @@ def test_the_texts_of_a_result_do_not_import_matplotlib():
     proc = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True,
                           timeout=120)
     assert proc.stdout.strip() == "[]", proc.stderr[-2000:]
+
+
+def test_the_console_entry_flushes_and_keeps_the_exit_code(capsys):
+    # entry() ends the process with os._exit (no interpreter teardown): what main() prints
+    # must still all arrive, piped, with main()'s exit code
+    from stackopt.cli.main import main
+
+    argv = ["calc", "via", "--depth", "0.19mm", "--drill", "0.3mm", "--json"]
+    assert main(argv) == 0
+    expected = capsys.readouterr().out
+    ok = subprocess.run([sys.executable, "-m", "stackopt", *argv], capture_output=True,
+                        text=True, timeout=120)
+    assert (ok.returncode, ok.stdout) == (0, expected)
+    bad = subprocess.run([sys.executable, "-m", "stackopt", "calc", "via", "--depth", "-1mm",
+                          "--drill", "0.3mm"], capture_output=True, text=True, timeout=120)
+    assert bad.returncode == 2 and len(bad.stderr.strip().splitlines()) == 1, bad.stderr
+    # a reader that stops early: no traceback
+    head = subprocess.run(f"'{sys.executable}' -m stackopt calc via --depth 0.19mm "
+                          "--drill 0.3mm --json | head -c 1", shell=True, capture_output=True,
+                          text=True, timeout=120)
+    assert "Traceback" not in head.stderr

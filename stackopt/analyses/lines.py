@@ -21,7 +21,7 @@ import numpy as np
 
 from stackopt.physics.linetypes import PAIR_TYPES, LineSpec, closed_form, field, line_width
 
-__all__ = ["LineRow", "line_rows"]
+__all__ = ["LineRow", "field_check", "field_checks", "field_keys", "line_rows"]
 
 
 @dataclass(frozen=True)
@@ -70,23 +70,67 @@ def _no_layer(ln) -> LineRow:
                    width_field_m=None, field_error=None)
 
 
+def _routes(problem, geometry, i: int):
+    """``(route index, its one-candidate line batch)`` for every route of candidate ``i``
+    whose layer exists there (a handful)."""
+    for r in range(len(problem.routes)):
+        lb = problem.line_batch(geometry, r).take(np.array([i]))
+        if int(lb.layer[0]) >= 0:
+            yield r, lb
+
+
 def line_rows(problem, geometry, i: int, widths_row: np.ndarray, check: bool = True,
               cache: dict | None = None) -> list[LineRow]:
     """The routes of candidate ``i`` of ``geometry`` (a batch) with widths ``widths_row``
     (one per :attr:`~stackopt.search.problem.Problem.routes`): a row per line and layer
     that carries it there, in the scenario's order; a line with no layer gets one row.
 
-    ``check`` adds the field solve (``z_field_ohm``, ``width_field_m``); ``cache`` (a dict)
-    shares solves between candidates with the same cross-section.
+    ``check`` adds the field solve (``z_field_ohm``, ``width_field_m``); ``cache`` (a dict
+    by :func:`field_keys` key) shares solves between candidates with the same
+    cross-section, and may be filled ahead (:func:`field_checks`).
     """
     cache = {} if cache is None else cache
     rows: dict[int, list[LineRow]] = {j: [] for j in range(len(problem.scenario.lines))}
-    for r, rt in enumerate(problem.routes):  # a handful of routes
-        lb = problem.line_batch(geometry, r).take(np.array([i]))
-        if int(lb.layer[0]) >= 0:
-            rows[rt.line].append(_route_row(problem, r, lb, widths_row[r], check, cache))
+    for r, lb in _routes(problem, geometry, i):
+        rows[problem.routes[r].line].append(
+            _route_row(problem, r, lb, widths_row[r], check, cache))
     return [x for j, ln in enumerate(problem.scenario.lines)
             for x in (rows[j] or [_no_layer(ln)])]
+
+
+def field_keys(problem, geometry, i: int, widths_row: np.ndarray) -> list[tuple]:
+    """The field solves the checked line table of candidate ``i`` needs (as
+    :func:`line_rows`): one key ``(cross-section, width, target)`` per route with a
+    width, for :func:`field_checks`."""
+    keys = []
+    for r, lb in _routes(problem, geometry, i):
+        w = _num(widths_row[r])
+        if w is not None:
+            keys.append((_scalar(problem.line_spec(r, lb), 0), w,
+                         problem.scenario.lines[problem.routes[r].line].target))
+    return keys
+
+
+def field_check(spec: LineSpec, w: float, target: float) -> tuple[float, float, float]:
+    """The field solve of one cross-section at its closed-form width ``w`` [m]: the
+    impedance there [ohm] (Z0, Zdiff for a pair), the solver's error estimate, and the
+    width [m] that meets ``target`` [ohm] by field solve (NaN if none in 0.25-4 w).
+
+    The closed-form width is solved once and serves both as the check and as the start
+    of the refinement (:func:`~stackopt.physics.linetypes.line_width`).
+    """
+    key = "z_diff" if spec.pair else "z0"
+    f = field(spec, w)
+    wf, ok = line_width(spec, target, w_min=0.25 * w, w_max=4.0 * w, solver="field",
+                        start=(w, float(f[key])))
+    return float(f[key]), float(f["error"]), float(wf) if bool(ok) else math.nan
+
+
+def field_checks(keys: list[tuple]) -> dict[tuple, tuple[float, float, float]]:
+    """:func:`field_check` of each distinct key of :func:`field_keys` (a handful of
+    cross-sections: field solves are not a batch kernel), by key; a module-level function
+    of picklable values, so another process can solve them while this one works."""
+    return {k: field_check(*k) for k in dict.fromkeys(keys)}
 
 
 def _route_row(problem, r: int, lb, width: float, check: bool, cache: dict) -> LineRow:
@@ -101,16 +145,12 @@ def _route_row(problem, r: int, lb, width: float, check: bool, cache: dict) -> L
                width_field_m=None, field_error=None, type=ln.type)
     spec = _scalar(problem.line_spec(r, lb), 0)
     row["type"], row["gap_m"] = spec.type, spec.gap
-    key = "z_diff" if pair else "z0"
     if w is not None:
-        row["z_ohm"] = _num(closed_form(spec, w)[key])
+        row["z_ohm"] = _num(closed_form(spec, w)["z_diff" if pair else "z0"])
     if check and w is not None:
         ck = (spec, w, ln.target)
         if ck not in cache:
-            f = field(spec, w)  # the closed-form width, solved once: check and start
-            wf, ok = line_width(spec, ln.target, w_min=0.25 * w, w_max=4.0 * w,
-                                solver="field", start=(w, float(f[key])))
-            cache[ck] = (f[key], f["error"], float(wf) if bool(ok) else math.nan)
+            cache[ck] = field_check(*ck)
         zf, err, wf = cache[ck]
         row.update(z_field_ohm=_num(zf), field_error=_num(err), width_field_m=_num(wf))
     return LineRow(**row)

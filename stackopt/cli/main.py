@@ -172,5 +172,18 @@ def _interrupted(exc: KeyboardInterrupt) -> str:
 
 
 def entry() -> None:
-    """Console-script entry point."""
-    sys.exit(main())
+    """Console-script entry point.
+
+    The process ends as soon as the command is over and its output is flushed: every file
+    it wrote is closed (and renamed into place), every process it started has been
+    waited for, and tearing down the interpreter's objects one by one (a tenth of a
+    second after the demo) would only keep the shell waiting. atexit handlers do not run
+    here; code that needs them calls :func:`main`.
+    """
+    code = main()
+    try:
+        sys.stdout.flush()
+        sys.stderr.flush()
+    except BrokenPipeError:  # e.g. piped into head: what was read is all that was wanted
+        pass
+    os._exit(code)

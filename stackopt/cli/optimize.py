@@ -95,7 +95,7 @@ def run(args: argparse.Namespace) -> int:
     import stackopt
     from stackopt.analyses.quantities import quantity_sweep
     from stackopt.errors import Interrupted
-    from stackopt.outputs.bundle import warm, write_all
+    from stackopt.outputs.bundle import LinesAhead, warm, write_all
     from stackopt.outputs.drawer import Drawer
     from stackopt.outputs.files import prepare_out_dir
     from stackopt.outputs.resultdir import pause_point
@@ -126,11 +126,13 @@ def run(args: argparse.Namespace) -> int:
     import stackopt.search.api  # noqa: F401
 
     drawer = Drawer.start(warm)
+    ahead = LinesAhead(drawer)  # the picks' field solves, there, during the analyses
     try:
         pause_point("search")
         result = stackopt.optimize(inp.scenario, inp.table, seed=args.seed,
                                    method=args.method, budget=args.budget, progress=bar,
-                                   monte_carlo_progress=monte_carlo, memo=memo)
+                                   monte_carlo_progress=monte_carlo, memo=memo,
+                                   searched=ahead)
         bar.close()
         builds.close()
         sweep = None
@@ -141,7 +143,7 @@ def run(args: argparse.Namespace) -> int:
         extra = {"inputs": {"scenario": str(inp.scenario_path.name),
                             "cost_table": str(inp.table_path.name), "sha256": inp.hashes()}}
         write_all(result, out, force=args.force, extra_summary=extra, sweep=sweep,
-                  drawer=drawer)
+                  drawer=drawer, ahead=ahead)
     except InputError as exc:  # a rule of the search: it concerns the scenario's keys
         if exc.file is not None:
             raise

@@ -30,7 +30,7 @@ if TYPE_CHECKING:
     from stackopt.outputs.parallel import Job
     from stackopt.search.results import Result
 
-__all__ = ["FILES", "drawing_jobs", "drawn", "render_all", "warm", "write_all"]
+__all__ = ["FILES", "LinesAhead", "drawing_jobs", "drawn", "render_all", "warm", "write_all"]
 
 #: The fixed file names, in writing order.
 FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.md",
@@ -58,6 +58,32 @@ def _touchstone(result: Result, i: int) -> str:
     comment = (f"stackopt: scenario {pb.scenario.name}, candidate {result.ids[i]}\n"
                f"via model {pb.scenario.search.via_model}; closed-form estimate")
     return touchstone_text(f, s[0], pb.compiled.z0, comment=comment)
+
+
+class LinesAhead:
+    """The picks' field solves (:mod:`stackopt.analyses.lines`), sent to a
+    :class:`~stackopt.outputs.drawer.Drawer` between the search and its analyses: pass it
+    as ``optimize(searched=...)``, and to :func:`render_all`, which collects them. The
+    drawer is idle then (the drawing needs the analysed result); the solves are the
+    report's largest share of CPU. Picks the analyses add (``cheapest_robust``) are
+    solved here when their cross-sections are new."""
+
+    def __init__(self, drawer: Drawer | None) -> None:
+        self._drawer, self._sent = drawer, False
+
+    def __call__(self, result: Result) -> None:
+        from stackopt.analyses.lines import field_checks
+
+        if self._drawer is None:
+            return
+        keys = result.field_keys([i for i in result.picks.values() if i is not None])
+        self._sent = bool(keys) and self._drawer.submit(field_checks, keys)
+
+    def collect(self, result: Result) -> None:
+        """Add the solves to ``result`` (waits for them); nothing if none were sent."""
+        if self._sent and self._drawer is not None:
+            self._sent = False
+            result.line_solves.update(self._drawer.result())
 
 
 def warm() -> None:
@@ -119,8 +145,8 @@ def drawn(result: Result, sweep: QuantitySweep | None = None) -> dict[str, bytes
 
 
 def render_all(result: Result, extra_summary: dict | None = None,
-               sweep: QuantitySweep | None = None, drawer: Drawer | None = None
-               ) -> dict[str, bytes]:
+               sweep: QuantitySweep | None = None, drawer: Drawer | None = None,
+               ahead: LinesAhead | None = None) -> dict[str, bytes]:
     """Every output file's bytes, by file name (nothing is written). The mitigation
     files and summary key come only from a design space with two-layer boards
     (``mitigation_ladder`` is ``null`` otherwise); ``quantities.png``, the report's cost
@@ -131,10 +157,13 @@ def render_all(result: Result, extra_summary: dict | None = None,
     :class:`~stackopt.outputs.drawer.Drawer` started before the search) if given, else
     by workers forked now (:func:`stackopt.outputs.parallel.render`), while this
     process writes the summary, the tables and the reports; the bytes are the same.
+    Field solves sent ahead to the drawer (``ahead``) are collected first.
     """
     from stackopt.outputs.parallel import render
     from stackopt.outputs.report import IMAGE_FILES, report_html
 
+    if ahead is not None:
+        ahead.collect(result)
     _ = result.ladder  # both shares read it: built once, before either process starts
     texts = functools.partial(_texts, result, extra_summary, sweep)  # this process's share
     if drawer is not None and drawer.submit(drawn, result, sweep):
@@ -190,7 +219,8 @@ def _texts(result: Result, extra_summary: dict | None, sweep: QuantitySweep | No
 
 def write_all(result: Result, out_dir: str | Path, force: bool = False,
               extra_summary: dict | None = None, sweep: QuantitySweep | None = None,
-              drawer: Drawer | None = None) -> list[Path]:
+              drawer: Drawer | None = None, ahead: LinesAhead | None = None
+              ) -> list[Path]:
     """Render every output file and write them as one result into ``out_dir``, all or
     nothing (:func:`stackopt.outputs.resultdir.write_result`).
 
@@ -209,6 +239,8 @@ def write_all(result: Result, out_dir: str | Path, force: bool = False,
         Cost against quantity (see :func:`render_all`).
     drawer : Drawer, optional
         A drawing process started before the search (see :func:`render_all`).
+    ahead : LinesAhead, optional
+        Field solves sent to ``drawer`` before the analyses (see :func:`render_all`).
 
     Returns
     -------
@@ -222,4 +254,5 @@ def write_all(result: Result, out_dir: str | Path, force: bool = False,
         then as it was.
     """
     prepare_out_dir(out_dir, force)  # before rendering: a refusal costs nothing
-    return write_result(out_dir, render_all(result, extra_summary, sweep, drawer), force)
+    return write_result(out_dir, render_all(result, extra_summary, sweep, drawer, ahead),
+                        force)

@@ -3,10 +3,10 @@
 The search runs on one core; the drawing libraries (matplotlib, pandas for the tables)
 take about a fifth of a second to import, and the other core is idle meanwhile. A
 :class:`Drawer` is forked before the search: it imports what drawing needs (``warm``)
-while the search runs, then waits. When the search is over it is sent one task (a
-module-level function and its arguments, pickled once: the search result is some
-megabytes, a few hundredths of a second) and returns the task's value, while this
-process does its own share. The figures it draws are the same bytes as drawn here: the
+while the search runs, then waits for tasks (a module-level function and its
+arguments) and returns each task's value, while this process does its own share: the
+picks' field solves while this process runs the analyses, then the drawing (the search
+result pickled once: some megabytes, a few hundredths of a second). The figures it draws are the same bytes as drawn here: the
 result arrives bit for bit, and every figure reads only the result
 (``tests/test_outputs_parallel.py``).
 
@@ -33,33 +33,32 @@ __all__ = ["Drawer"]
 
 
 def _serve(conn: Connection, other: Connection, warm: Callable[[], None]) -> None:
-    """The forked process: warm up, run the one task it is sent, send its value back."""
+    """The forked process: warm up, then run each task it is sent, in order, and send its
+    value back, until the caller closes the pipe."""
     other.close()  # the caller's end: closed here, so the caller closing it reads as EOF
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     os.setpgid(0, 0)  # its own group: close() ends it with the workers it forks
     try:
         warm()
-        task = conn.recv()  # EOFError: the caller closed without a task
-    except (EOFError, OSError):
+        while True:
+            fn, args = conn.recv()  # EOFError: the caller closed, no more tasks
+            try:
+                reply: tuple[str, Any] = ("ok", fn(*args))
+            except BaseException as exc:  # raised again in the caller, as in one process
+                reply = ("error", exc)
+            conn.send(reply)
+    except (EOFError, BrokenPipeError, OSError):
         return
-    fn, args = task
-    try:
-        reply: tuple[str, Any] = ("ok", fn(*args))
-    except BaseException as exc:  # raised again in the caller, as in one process
-        reply = ("error", exc)
-    try:
-        conn.send(reply)
-    except (BrokenPipeError, OSError):
-        pass
 
 
 class Drawer:
-    """A forked process that imports the drawing libraries now and runs one task later.
+    """A forked process that imports the drawing libraries now and runs tasks later.
 
     Use :meth:`start` (None where only one process may run), then :meth:`submit` a
     module-level function and its arguments, do other work, and collect the value with
-    :meth:`result`. :meth:`close` ends the process (always call it; a ``with`` block
-    does).
+    :meth:`result` (values come back in the order the tasks were sent; a task sent
+    while another runs waits for it). :meth:`close` ends the process (always call it; a
+    ``with`` block does).
     """
 
     def __init__(self, warm: Callable[[], None]) -> None:
@@ -75,7 +74,7 @@ class Drawer:
         except OSError:  # it did it first
             pass
         child.close()
-        self._sent = self._done = False
+        self._waiting = 0  # tasks sent whose value is not collected yet
 
     @classmethod
     def start(cls, warm: Callable[[], None]) -> Drawer | None:
@@ -86,22 +85,25 @@ class Drawer:
     def submit(self, fn: Callable[..., Any], *args: Any) -> bool:
         """Send the task ``fn(*args)``; False (nothing sent, the drawer closed) if it
         cannot be pickled or the drawer is gone: the caller then runs it itself."""
-        if self._sent:
-            raise RuntimeError("a drawer runs one task")
+        if self._conn.closed:
+            return False
         try:
             self._conn.send((fn, args))
         except Exception:  # unpicklable, or the process died: do it in the caller
             self.close()
             return False
-        self._sent = True
+        self._waiting += 1
         return True
 
     def result(self) -> Any:
-        """The submitted task's value (waits for it); its exception is raised here."""
+        """The value of the oldest task not collected yet (waits for it); its exception
+        is raised here (and the drawer closed)."""
+        if self._waiting == 0:
+            raise RuntimeError("no task was sent to the drawer, or its value was collected")
         status, value = self._conn.recv()
-        self._done = True
-        self.close()
+        self._waiting -= 1
         if status == "error":
+            self.close()
             raise value
         return value
 
@@ -110,7 +112,7 @@ class Drawer:
         still works on a task nobody will collect, with its workers at once."""
         if not self._conn.closed:
             self._conn.close()
-        if self._sent and not self._done and self._proc.is_alive():
+        if self._waiting and self._proc.is_alive():
             try:
                 os.killpg(self._pid, signal.SIGTERM)
             except (ProcessLookupError, PermissionError):

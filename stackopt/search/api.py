@@ -66,6 +66,7 @@ def optimize(
     progress: Callable[[int, int], None] | None = None,
     monte_carlo_progress: Callable[[int, int], None] | None = None,
     memo: ResponseMemo | None = None,
+    searched: Callable[[Result], None] | None = None,
 ) -> Result:
     """Search the scenario's design space priced by ``cost_table``.
 
@@ -88,6 +89,10 @@ def optimize(
     memo
         Circuit responses shared with other searches of the same scenario (other
         quantities, other fabs): phenotypes it holds are not solved again.
+    searched
+        Called with the result before its analyses (the front and the nominal picks are
+        known; robustness, spread, yields and limits are not): work that needs only
+        those may start elsewhere while the analyses run.
 
     Returns
     -------
@@ -136,6 +141,8 @@ def optimize(
         evaluated = archive.evaluations
     ev = problem.evaluate(cands)
     result = Result(problem, cands, ev, method, evaluated, seed, stats=stats)
+    if searched is not None:
+        searched(result)
     from stackopt.analyses.robust import analyse
 
     # robust margins, model spread, yields, cheapest_robust, limits

@@ -208,9 +208,15 @@ class Result:
 
     # ---- records -----------------------------------------------------------------------
     @cached_property
-    def _line_solves(self) -> dict:
-        """Field solves of line cross-sections, shared between candidates."""
+    def line_solves(self) -> dict:
+        """Field solves of line cross-sections by key
+        (:func:`stackopt.analyses.lines.field_keys`), shared between candidates; may be
+        filled ahead with :func:`~stackopt.analyses.lines.field_checks` of
+        :meth:`field_keys` (e.g. solved in another process)."""
         return {}
+
+    def _one(self, i: int):
+        return self.problem.space.geometry(self.candidates.take(np.array([i])))
 
     def lines(self, i: int, check: bool = True) -> list:
         """The impedance table of candidate ``i``: every line's layer, width, spacing and
@@ -218,9 +224,17 @@ class Result:
         (:func:`stackopt.analyses.lines.line_rows`; solves are cached)."""
         from stackopt.analyses.lines import line_rows
 
-        g = self.problem.space.geometry(self.candidates.take(np.array([i])))
-        return line_rows(self.problem, g, 0, self.evaluation.widths[i], check,
-                         self._line_solves)
+        return line_rows(self.problem, self._one(i), 0, self.evaluation.widths[i], check,
+                         self.line_solves)
+
+    def field_keys(self, indices) -> list:
+        """The field solves the checked impedance tables of candidates ``indices`` need
+        and :attr:`line_solves` does not hold yet (distinct, in order)."""
+        from stackopt.analyses.lines import field_keys
+
+        keys = (k for i in indices
+                for k in field_keys(self.problem, self._one(int(i)), 0, self.evaluation.widths[int(i)]))
+        return [k for k in dict.fromkeys(keys) if k not in self.line_solves]
 
     def record(self, i: int, check_lines: bool = False) -> dict:
         """Candidate ``i`` as a JSON-ready dict (the summary's candidate record,
