@@ -91,9 +91,10 @@ def test_only_elliptic_designs_import_scipy_signal():
     assert proc.stdout.strip() == "False", proc.stderr[-2000:]
 
 
-def test_the_texts_of_a_result_do_not_import_matplotlib():
-    # matplotlib takes about 0.3 s to import; the process that writes the summary, tables
-    # and reports while another draws the figures must not pay for it
+def test_the_search_and_the_texts_do_not_import_matplotlib_or_pandas():
+    # matplotlib and pandas take about 0.3 s and 0.15 s to import; the process that
+    # searches and writes the summary and reports while another draws the figures and
+    # the tables must not pay for them
     probe = ("import sys, stackopt\n"
              "from stackopt.cli.common import load_inputs\n"
              "from stackopt.outputs import bundle\n"
@@ -103,7 +104,8 @@ def test_the_texts_of_a_result_do_not_import_matplotlib():
              "out = bundle._texts(r, None, None)\n"
              "assert b'robust' in out['report.md']\n"
              "report_html(r, {}, None)\n"
-             "print(sorted(m for m in sys.modules if m.startswith('matplotlib')))")
+             "print(sorted(m for m in sys.modules if m.split('.')[0] in "
+             "('matplotlib', 'pandas')))")
     proc = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True,
                           timeout=120)
     assert proc.stdout.strip() == "[]", proc.stderr[-2000:]

@@ -201,3 +201,23 @@ def test_known_rows_solve_only_the_unknown_boards_once(demos):
     again = known.evaluate(r.candidates.take(ask))
     assert known.solved == 3  # the second call solves nothing
     assert np.array_equal(again.margin, ev.margin)
+
+
+@pytest.mark.parametrize("name", ["two", "emi", "harmonic"])
+def test_the_summary_rows_are_the_tables_rows(demos, name):
+    # to_summary builds its rows without pandas (the summary is written where pandas is
+    # not loaded); they must be pandas' own rows of the ladder's tables, value for value
+    lad = demos[name].ladder
+    if lad is None:
+        pytest.skip("no two-layer boards")
+
+    def rows(df: pd.DataFrame) -> list[dict]:
+        return [{k: (v.item() if hasattr(v, "item") else v) for k, v in r.items()}
+                for _, r in df.iterrows()]
+
+    s = lad.to_summary()
+    assert json.dumps(s["steps"]) == json.dumps(rows(lad.table))
+    assert json.dumps(s["pareto"]) == json.dumps(rows(lad.pareto_table))
+    if lad.four_layer is not None:
+        four = pd.DataFrame(lad._columns(lad.four_layer, lad.four_layer_evaluation))
+        assert json.dumps(s["four_layer"]) == json.dumps(rows(four)[0])

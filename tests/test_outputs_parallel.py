@@ -138,3 +138,35 @@ def test_one_core_starts_no_drawer(monkeypatch):
 
     monkeypatch.setenv("STACKOPT_JOBS", "1")
     assert Drawer.start(lambda: None) is None
+
+
+def test_a_drawer_returns_the_values_of_several_tasks_in_order(monkeypatch):
+    import os
+
+    monkeypatch.setenv("STACKOPT_JOBS", "2")
+    with _drawer_or_skip() as d:
+        assert d.submit(_pid) and d.submit(_fail, "second") and d.submit(_pid)
+        assert d.result() != os.getpid()
+        with pytest.raises(ValueError, match="second"):
+            d.result()
+    assert not d._proc.is_alive()  # the third value was never collected: ended anyway
+
+
+def test_field_solves_sent_ahead_give_the_serial_bytes(monkeypatch):
+    # The picks' field solves run in the drawer while the analyses run here; the files
+    # must be the bytes of one process that solves everything itself.
+    import stackopt
+    from stackopt.outputs.bundle import LinesAhead, render_all, warm
+    from tests.outputs_support import DEMO
+
+    monkeypatch.setenv("STACKOPT_JOBS", "2")
+    drawer = _drawer_or_skip(warm)
+    ahead = LinesAhead(drawer)
+    with drawer:
+        result = stackopt.optimize(DEMO, searched=ahead)
+        drawn = render_all(result, drawer=drawer, ahead=ahead)
+    assert result.line_solves  # filled from the other process
+    monkeypatch.setenv("STACKOPT_JOBS", "1")
+    serial = render_all(run())
+    assert list(drawn) == list(serial)
+    assert [k for k in drawn if drawn[k] != serial[k]] == []

@@ -241,3 +241,26 @@ def test_named_inner_layer_missing_on_some_counts_is_a_violation_there_only():
     assert (ev.violations["line_s_no_layer"][four] > 0).all()
     assert not (ev.violations["line_s_no_layer"][~four] > 0).any()
     assert np.isfinite(ev.widths[~four, 0]).all()
+
+
+
+def test_field_solves_listed_ahead_are_exactly_what_the_picks_tables_need(monkeypatch):
+    # field_keys lists the solves before the analyses (another process may solve them);
+    # with those filled in, the picks' checked tables must solve nothing more, and give
+    # the rows the lazily solved tables give
+    import stackopt.analyses.lines as lines
+
+    lazy = optimize(DEMO)
+    picks = sorted({i for i in lazy.picks.values() if i is not None})
+    expected = {i: lazy.lines(i) for i in picks}
+    ahead = optimize(DEMO)
+    keys = ahead.field_keys(picks)
+    assert keys and len(keys) == len(set(keys))
+    ahead.line_solves.update(lines.field_checks(keys))
+    assert ahead.field_keys(picks) == []
+
+    def no_more(*args):
+        raise AssertionError("solved again")
+
+    monkeypatch.setattr(lines, "field_check", no_more)
+    assert {i: ahead.lines(i) for i in picks} == expected

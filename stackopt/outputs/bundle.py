@@ -42,6 +42,8 @@ FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.m
 
 #: Job name prefix of the candidates table's blocks (joined in job order).
 _CSV_BLOCK = "candidates.csv#"
+#: The other tables made by :func:`drawing_jobs` (job name = file name).
+_TABLES = ("front.csv", "mitigations.csv")
 
 
 def _csv_block(result: Result, k: int) -> bytes:
@@ -72,6 +74,7 @@ class LinesAhead:
         self._drawer, self._sent = drawer, False
 
     def __call__(self, result: Result) -> None:
+        """Send the solves of ``result``'s picks (the ``searched`` hook)."""
         from stackopt.analyses.lines import field_checks
 
         if self._drawer is None:
@@ -91,6 +94,7 @@ def warm() -> None:
     :class:`~stackopt.outputs.drawer.Drawer` does this while the search runs)."""
     import matplotlib.backends.backend_agg  # noqa: F401
     import matplotlib.figure  # noqa: F401
+    import pandas  # noqa: F401  (the tables; the searching process never loads it)
 
     import stackopt.outputs.plots  # noqa: F401
     import stackopt.outputs.plots_ladder  # noqa: F401
@@ -100,8 +104,9 @@ def warm() -> None:
 
 
 def drawing_jobs(result: Result, sweep: QuantitySweep | None = None) -> dict[str, Job]:
-    """The figures and the candidates table's blocks as jobs (name -> bytes, or several
-    named files), independent of each other and of the text outputs."""
+    """The figures and the tables (the candidates table's blocks, the front, the
+    mitigation ladder) as jobs (name -> bytes, or several named files), independent of
+    each other and of the text outputs."""
     from stackopt.outputs.plots import figure_bytes, plot_front, plot_response
     from stackopt.outputs.plots_ladder import plot_mitigations
     from stackopt.outputs.plots_stackup import plot_costs, plot_prepregs, plot_stackups
@@ -134,6 +139,10 @@ def drawing_jobs(result: Result, sweep: QuantitySweep | None = None) -> dict[str
         from stackopt.outputs.sweep import plot_quantities
 
         jobs["quantities"] = lambda: figure_bytes(plot_quantities(sweep), "png")
+    # the other tables: pandas is loaded there, not in the process that writes the texts
+    jobs["front.csv"] = lambda: front_csv(result).encode("utf-8")
+    if ladder is not None:
+        jobs["mitigations.csv"] = lambda: mitigations_csv(ladder).encode("utf-8")
     return jobs
 
 
@@ -175,6 +184,7 @@ def render_all(result: Result, extra_summary: dict | None = None,
         out = mine
     blocks = [k for k in images if k.startswith(_CSV_BLOCK)]  # in job order
     out["candidates.csv"] = b"".join([images.pop(k) for k in blocks])
+    out.update((k, images.pop(k)) for k in _TABLES if k in images)
     out["pareto.svg"] = images.pop("pareto.svg")
     out["report.html"] = report_html(result, images, sweep).encode("utf-8")
     for key, name in IMAGE_FILES.items():
@@ -187,7 +197,8 @@ def render_all(result: Result, extra_summary: dict | None = None,
 
 def _texts(result: Result, extra_summary: dict | None, sweep: QuantitySweep | None
            ) -> dict[str, bytes]:
-    """The summary, the tables, the report's text and the stackup files."""
+    """The summary, the report's text, the selected board's files and the stackup files
+    (nothing here loads matplotlib or pandas: :func:`drawing_jobs` has those)."""
     from stackopt.analyses.ideal import ideal_ground
     from stackopt.outputs.case import four_layer_case
     from stackopt.outputs.prepregs import prepreg_summary
@@ -204,10 +215,7 @@ def _texts(result: Result, extra_summary: dict | None, sweep: QuantitySweep | No
         from stackopt.outputs.sweep import sweep_summary
 
         extra["quantity_sweep"] = sweep_summary(sweep)
-    out = {"summary.json": summary_json(result, extra).encode("utf-8"),
-           "front.csv": front_csv(result).encode("utf-8")}
-    if ladder is not None:
-        out["mitigations.csv"] = mitigations_csv(ladder).encode("utf-8")
+    out = {"summary.json": summary_json(result, extra).encode("utf-8")}
     out["report.md"] = report_markdown(result, IMAGE_FILES, sweep).encode("utf-8")
     out["selected.yaml"] = selected_yaml(result).encode("utf-8")
     i = selected_index(result)

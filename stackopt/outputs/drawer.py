@@ -1,14 +1,14 @@
 """A process that gets ready to draw while this one searches.
 
 The search runs on one core; the drawing libraries (matplotlib, pandas for the tables)
-take about a fifth of a second to import, and the other core is idle meanwhile. A
+take about 0.4 s to import, and the other core is idle meanwhile. A
 :class:`Drawer` is forked before the search: it imports what drawing needs (``warm``)
 while the search runs, then waits for tasks (a module-level function and its
 arguments) and returns each task's value, while this process does its own share: the
 picks' field solves while this process runs the analyses, then the drawing (the search
-result pickled once: some megabytes, a few hundredths of a second). The figures it draws are the same bytes as drawn here: the
-result arrives bit for bit, and every figure reads only the result
-(``tests/test_outputs_parallel.py``).
+result pickled once: some megabytes, a few hundredths of a second). The figures it
+draws are the same bytes as drawn here: the result arrives bit for bit, and every
+figure reads only the result (``tests/test_outputs_parallel.py``).
 
 Nothing is started where :func:`stackopt.outputs.parallel.workers` allows only one
 process (no ``fork``, one core, or ``STACKOPT_JOBS=1``); callers then do the work

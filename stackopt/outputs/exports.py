@@ -13,13 +13,14 @@ import math
 from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 import yaml
 
 from stackopt.outputs.facts import selected_index
 from stackopt.outputs.report_sections import OZ
 
 if TYPE_CHECKING:
+    import pandas as pd
+
     from stackopt.search.results import Result
 
 __all__ = ["candidates_csv", "csv_blocks", "front_csv", "mitigations_csv", "selected_yaml",
@@ -58,6 +59,8 @@ def _cell(value: object) -> str:
 def _column(values: np.ndarray) -> tuple[str, list]:
     """(%-format, Python values) of one column: floats as ``%.10g`` (missing: empty),
     integers as ``%d``, booleans as True/False, anything else as text cells."""
+    import pandas as pd  # tables are written where pandas is loaded (the drawing process)
+
     kind = values.dtype.kind
     if kind == "f" and values.dtype.itemsize == 8:
         # few distinct values (copper, drill, thicknesses, costs): each formatted once;

@@ -34,9 +34,9 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from stackopt.model.mitigations import MITIGATIONS
 from stackopt.search.evalrows import KnownRows, take_rows
@@ -52,6 +52,9 @@ from stackopt.search.twolayer import (
     plain_board,
     two_layer_combinations,
 )
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 __all__ = ["Ladder", "mitigation_ladder", "build_ladder", "climb", "plain_board",
            "least_violating", "nearest_alternatives",
@@ -210,14 +213,8 @@ class Ladder:
                      "meets_requirements": ev.feasible & (ev.margin >= 0)})
         return cols
 
-    @property
-    def table(self) -> pd.DataFrame:
-        """One row per step: the change, Δcost per board, ΔdB at every requirement and of
-        the margin, dB per unit cost (empty for a free step), and the board."""
+    def _step_columns(self) -> dict[str, object]:
         ev = self.evaluation
-        if self.blocked:
-            return pd.DataFrame(columns=["step", "kind", "change", "d_cost", "total_d_cost",
-                                         "d_margin_dB", "dB_per_cost"])
         dc = np.r_[0.0, np.diff(ev.unit_cost)]
         dm = np.r_[0.0, np.diff(ev.margin)]
         cols: dict[str, object] = {"step": np.arange(len(self.steps)), "kind": self.kinds,
@@ -230,15 +227,30 @@ class Ladder:
         with np.errstate(divide="ignore", invalid="ignore"):
             cols["dB_per_cost"] = np.where(dc > tol, dm / dc, np.nan)
         cols.update(self._columns(self.steps, ev))
-        return pd.DataFrame(cols)
+        return cols
+
+    @property
+    def table(self) -> pd.DataFrame:
+        """One row per step: the change, Δcost per board, ΔdB at every requirement and of
+        the margin, dB per unit cost (empty for a free step), and the board."""
+        import pandas as pd
+
+        if self.blocked:
+            return pd.DataFrame(columns=["step", "kind", "change", "d_cost", "total_d_cost",
+                                         "d_margin_dB", "dB_per_cost"])
+        return pd.DataFrame(self._step_columns())
 
     @property
     def pareto_table(self) -> pd.DataFrame:
         """The Pareto set of two-layer combinations, by increasing unit cost."""
+        import pandas as pd
+
         return pd.DataFrame(self._columns(self.pareto, self.pareto_evaluation))
 
     def frame(self) -> pd.DataFrame:
         """Ladder, Pareto set and the four-layer board in one table (``set`` column)."""
+        import pandas as pd
+
         parts = [self.table.assign(set="ladder"), self.pareto_table.assign(set="pareto")]
         if self.four_layer is not None and self.four_layer_evaluation is not None:
             parts.append(pd.DataFrame(self._columns(
@@ -249,22 +261,29 @@ class Ladder:
         return df[["set", *[c for c in df.columns if c != "set"]]]
 
     def to_summary(self) -> dict:
-        """JSON-ready summary (``summary.json``'s ``mitigation_ladder``)."""
-        def rec(row: pd.Series) -> dict:
-            return {k: (v.item() if hasattr(v, "item") else v) for k, v in row.items()}
-        t = self.table
+        """JSON-ready summary (``summary.json``'s ``mitigation_ladder``): the rows of
+        :attr:`table` and :attr:`pareto_table` as dicts (built from the same columns,
+        without a data frame: the summary is written where pandas is not loaded)."""
         four = None
         if self.four_layer is not None and self.four_layer_evaluation is not None:
-            four = rec(pd.DataFrame(self._columns(self.four_layer, self.four_layer_evaluation)
-                                    ).iloc[0])
+            four = _records(self._columns(self.four_layer, self.four_layer_evaluation))[0]
         blocked = ([f"{k} (+{float(v[0]):.3g})" for k, v in self.evaluation.violations.items()
                     if v[0] > 0] if self.blocked else [])
-        return {"steps": [rec(r) for _, r in t.iterrows()],
+        return {"steps": [] if self.blocked else _records(self._step_columns()),
                 "blocked_by": blocked,
                 "first_meeting_step": self.first_meeting,
-                "pareto": [rec(r) for _, r in self.pareto_table.iterrows()],
+                "pareto": _records(self._columns(self.pareto, self.pareto_evaluation)),
                 "combinations": self.combinations, "exhaustive": self.exhaustive,
                 "four_layer": four, "four_layer_note": self.four_layer_note}
+
+
+def _records(cols: dict[str, object]) -> list[dict]:
+    """The rows of a table given as columns (arrays or lists of equal length), each a
+    dict of Python values (numpy scalars converted), in column order."""
+    lists = {k: v.tolist() if isinstance(v, np.ndarray) else list(v)  # type: ignore[call-overload]
+             for k, v in cols.items()}
+    n = len(next(iter(lists.values()))) if lists else 0
+    return [{k: v[i] for k, v in lists.items()} for i in range(n)]
 
 
 def _pareto(problem: Problem, pool: Candidates, ev: Evaluation) -> np.ndarray:

@@ -10,12 +10,13 @@ import math
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
 from stackopt import __version__
 from stackopt.search.problem import Evaluation, Problem
 
 if TYPE_CHECKING:
+    import pandas as pd
+
     from stackopt.search.results import Result
 
 __all__ = ["MODEL_DEPENDENT_DB", "metrics_record", "candidate_record", "candidate_frame",
@@ -155,6 +156,8 @@ def candidate_frame(result: Result, rows: np.ndarray | None = None) -> pd.DataFr
     cols["meets_requirements"] = result.meets[rows]
     cols["violations"] = _violation_text(result, rows)
     cols["on_front"] = result.on_front[rows]
+    import pandas as pd  # only the tables need it (loaded where they are written)
+
     return pd.DataFrame(cols)
 
 def _violation_text(result: Result, rows: np.ndarray) -> np.ndarray:

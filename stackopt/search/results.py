@@ -5,9 +5,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from functools import cached_property
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from stackopt.search.front import nondominated
 from stackopt.search.ladder import Ladder, mitigation_ladder
@@ -22,6 +22,9 @@ from stackopt.search.records import (
 )
 from stackopt.search.responses import Sweeps
 from stackopt.search.space import Candidates, candidate_stackup
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 __all__ = ["Result", "PICKS", "MODEL_DEPENDENT_DB", "metrics_record"]
 
@@ -232,8 +235,9 @@ class Result:
         and :attr:`line_solves` does not hold yet (distinct, in order)."""
         from stackopt.analyses.lines import field_keys
 
-        keys = (k for i in indices
-                for k in field_keys(self.problem, self._one(int(i)), 0, self.evaluation.widths[int(i)]))
+        widths = self.evaluation.widths
+        keys = (k for i in map(int, indices)
+                for k in field_keys(self.problem, self._one(i), 0, widths[i]))
         return [k for k in dict.fromkeys(keys) if k not in self.line_solves]
 
     def record(self, i: int, check_lines: bool = False) -> dict:
