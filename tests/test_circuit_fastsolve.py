@@ -10,13 +10,13 @@ import pytest
 import scipy.linalg
 
 from stackopt.circuit import GroundBatch, compile_circuit, ground_inductance_matrix, mna
-from stackopt.circuit.mna import mna_s
+from stackopt.circuit.mna import mna_s, solve
 from stackopt.circuit.smallsolve import SMALL, schur_small
 from stackopt.errors import InputError
 from stackopt.model.circuit import Circuit, Element
 
 F = np.geomspace(10e6, 3e9, 23)
-N = 40  # above mna.MIN_REDUCE, so that the reduction is used
+N = 40
 
 
 def _batch(n=N, seed=7):
@@ -109,6 +109,30 @@ def test_reduced_solve_matches_the_whole_matrix(build, monkeypatch):
         assert np.array_equal(mna_s(c, F, lg, reduce=False), ref)  # the plain path as before
     monkeypatch.setattr(mna, "SMALL_CHUNK", 3 * len(F) + 1)  # several chunks, a short last
     _agree(mna_s(c, F, lg), ref)
+
+
+@pytest.mark.parametrize("build", [_ladder9, _coupled_inductors, _floating_resonator])
+def test_a_candidates_response_does_not_depend_on_its_batch(build):
+    # an invariance, not a physics check: the response memo (stackopt.search.memo) hands
+    # a response solved in one batch to a search that would have solved it in another,
+    # so each candidate alone and in shuffled sub-batches must get the bits it gets in
+    # the whole batch. The batch mixes 1-9 vias per connection (its padding crosses
+    # numpy's 8-term pairwise summation block), own vias (uncoupled: the ABCD cascade
+    # where the circuit is a ladder) and shared ones (coupled: nodal analysis)
+    c, rng = build(), np.random.default_rng(5)
+    n = 300
+    batch = GroundBatch.broadcast(height=rng.uniform(0.1e-3, 1.6e-3, n),
+                                  drill=rng.choice([0.2e-3, 0.3e-3, 0.4e-3], n),
+                                  vias=rng.integers(1, 10, n), own_vias=rng.random(n) < 0.5,
+                                  via_in_pad=rng.random(n) < 0.5, coplanar=rng.random(n) < 0.3)
+    whole_lg = ground_inductance_matrix(c, batch)
+    whole = solve(c, F, batch)
+    assert np.array_equal(whole, solve(c, F, batch, lg=whole_lg))
+    for size in (1, 1, 2, 3, 17, 200):
+        idx = rng.permutation(n)[:size]
+        part = batch.take(idx)
+        assert np.array_equal(ground_inductance_matrix(c, part), whole_lg[idx]), size
+        assert np.array_equal(solve(c, F, part), whole[idx]), size
 
 
 def test_reduced_solve_on_random_candidates_and_a_fine_grid():

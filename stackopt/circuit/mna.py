@@ -17,13 +17,19 @@ couplings and :math:`L_g` the ground-terminal matrix
 :math:`Z_0`; port ``p`` is driven by a Norton source :math:`2/Z_0` (incident wave 1 V),
 so :math:`S_{pp} = V_p - 1` and :math:`S_{qp} = V_q` (Ho, Ruehli & Brennan, "The modified
 nodal approach to network analysis", IEEE Trans. Circuits Syst. 22(6), 504–509, 1975).
-Only the ground-terminal block depends on the candidate. For a batch of at least
-:data:`MIN_REDUCE` candidates each frequency's fixed network is therefore reduced once to
-its G ground terminals and two ports (:func:`_ports`), leaving one G x G system per
-candidate and frequency, solved by vectorized elimination
+Only the ground-terminal block depends on the candidate. Each frequency's fixed network
+is therefore reduced once to its G ground terminals and two ports (:func:`_ports`),
+leaving one G x G system per candidate and frequency, solved by vectorized elimination
 (:func:`stackopt.circuit.smallsolve.schur_small`); frequencies where that reduction is
-ill-conditioned, and small batches, solve every whole matrix with one
-``numpy.linalg.solve`` over stacked (candidate × frequency) matrices. Both in chunks.
+ill-conditioned solve every whole matrix with one ``numpy.linalg.solve`` over stacked
+(candidate × frequency) matrices. Both in chunks.
+
+A candidate's S-parameters do not depend on the batch it is solved in, to the last bit:
+the path (ladder cascade, reduced or whole-matrix nodal analysis) is chosen per candidate
+and per frequency, never by the batch's size or by its other members, and no GEMM runs
+over the candidate axis (a BLAS kernel may round a row differently by its place in the
+matrix). Responses solved in one batch can then be reused in another
+(:class:`stackopt.search.memo.ResponseMemo`) exactly as if solved there.
 """
 
 from __future__ import annotations
@@ -39,16 +45,13 @@ from stackopt.circuit.smallsolve import schur_small
 from stackopt.errors import InputError
 from stackopt.physics.inductance import DEFAULT_VIA_MODEL
 
-__all__ = ["solve", "mna_s", "mna_s_varied", "CHUNK", "SMALL_CHUNK", "MIN_REDUCE", "COND_LIMIT"]
+__all__ = ["solve", "mna_s", "mna_s_varied", "CHUNK", "SMALL_CHUNK", "COND_LIMIT"]
 
 #: Matrices per linear-solve call (bounds memory: CHUNK × n² × 16 bytes).
 CHUNK = 16384
 #: (candidate × frequency) systems per chunk of the reduced solve (fastest in
 #: benchmarks/bench_circuit.py; bounds memory: SMALL_CHUNK × (G + 2)² × 16 bytes).
 SMALL_CHUNK = 8192
-#: Smallest batch reduced to the ground terminals (below it the per-frequency reduction
-#: costs more than it saves).
-MIN_REDUCE = 16
 #: Largest (equilibrated, 1-norm) condition number of a frequency's fixed network (ground
 #: connections shorted) that is reduced to the ground terminals; above it that frequency
 #: is solved whole.
@@ -180,16 +183,20 @@ def _reduced(base: np.ndarray, rhs: np.ndarray, term: np.ndarray, jw: np.ndarray
     out = np.empty((nb, nf, 2, 2), dtype=complex)
     step = max(1, SMALL_CHUNK // nf)
     work = np.empty((g + 2) ** 2 * nf * min(step, nb), dtype=complex)
-    # -jw [W; B] as real (G + 2, G, 2F), re/im interleaved along F as in complex memory
-    wb = np.ascontiguousarray(wb.transpose(1, 2, 0)).view(float)
+    # -jw [W; B] as real ((G + 2) 2F, G): rows (row of [W; B], frequency re/im)
+    wb = np.ascontiguousarray(wb.transpose(1, 0, 2)).view(float)  # (G + 2, F, 2G)
+    wb = np.ascontiguousarray(wb.reshape(g + 2, nf, g, 2).transpose(0, 1, 3, 2)
+                              ).reshape(-1, g)
     for i0 in range(0, nb, step):  # chunks of candidates (memory bound, not per candidate)
         sl = slice(i0, i0 + step)
-        lgt = np.ascontiguousarray(lg[sl].transpose(2, 0, 1))  # (G, n, G): column t of L_g
-        nc = lgt.shape[1]
+        nc = len(lg[sl])
         # bordered systems [[I - jw W L_g, U_0], [-jw B L_g, A_0]], batch (n, F) last
         a = work[:(g + 2) ** 2 * nc * nf].reshape(g + 2, g + 2, nc, nf)
-        for t in range(g):  # real GEMMs straight into the complex entries
-            np.matmul(lgt[t], wb, out=a[:, t].view(float))
+        # one GEMM of the same shape per candidate (a stack, not one GEMM over the
+        # batch): a candidate's bits do not depend on the batch it is solved in
+        prod = np.matmul(wb, lg[sl])  # (n, (G + 2) F 2, G)
+        a[:, :g].view(float).reshape(g + 2, g, nc, nf, 2)[...] = prod.reshape(
+            nc, g + 2, nf, 2, g).transpose(1, 4, 0, 2, 3)
         for t in range(g):
             a[t, t] += 1.0
         a[:g, g:] = u0.transpose(1, 2, 0)[:, :, None, :]
@@ -218,8 +225,8 @@ def mna_s(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray | None, *
     """S-parameters (N, F, 2, 2) by nodal analysis; ``lg`` (N, G, G) [H] or None (ideal).
 
     ``reduce`` (default) reduces, per frequency, the fixed network to its ground
-    terminals (for :data:`MIN_REDUCE` candidates or more, at frequencies where that is well
-    conditioned) and then solves one G x G system per candidate and frequency;
+    terminals (at frequencies where that is well conditioned) and then solves one G x G
+    system per candidate and frequency;
     ``reduce=False`` solves every whole matrix (the reference).
     """
     c = compiled
@@ -229,7 +236,7 @@ def mna_s(compiled: CompiledCircuit, freqs: np.ndarray, lg: np.ndarray | None, *
     ports = list(c.ports)
     if ylines is not None:  # candidate-dependent lines: every whole matrix
         out = _full(_with_lines(c, base, ylines), rhs, term, jw, lg, ports)
-    elif lg is None or not reduce or lg.shape[0] < MIN_REDUCE:
+    elif lg is None or not reduce:
         out = _full(base, rhs, term, jw, lg, ports)
     else:
         ok = _conditioned(base)
@@ -279,8 +286,9 @@ def solve(compiled: CompiledCircuit, freqs: np.ndarray, batch: GroundBatch | Non
         A key of :data:`stackopt.physics.inductance.VIA_MODELS`.
         Single-via inductance model.
     method : {"auto", "mna", "ladder"}
-        "auto" uses the ABCD ladder cascade where it is exact (a plain ladder whose shunt
-        branches are uncoupled) and nodal analysis otherwise; "ladder" insists on it.
+        "auto" uses the ABCD ladder cascade for each candidate where it is exact (a plain
+        ladder whose shunt branches are uncoupled in that candidate) and nodal analysis
+        for the others; "ladder" insists on it for every candidate.
     mutual : bool, default True
         Mutual inductance between different ground connections' vias (see
         :func:`~stackopt.circuit.grounds.ground_inductance_matrix`).
@@ -313,17 +321,24 @@ def solve(compiled: CompiledCircuit, freqs: np.ndarray, batch: GroundBatch | Non
             raise InputError("the ABCD fast path does not take interconnect lines",
                              key="method", fix="use method 'auto' or 'mna'")
         return mna_s(compiled, f, lg, ylines=line_admittance(compiled, batch, f))
-    g = compiled.n_terminals
-    uncoupled = lg is None or not np.any(lg[:, ~np.eye(g, dtype=bool)])
-    ladder_ok = compiled.ladder is not None and uncoupled
-    if method == "ladder" and not ladder_ok:
-        raise InputError("the ABCD fast path needs a plain ladder with uncoupled shunt "
-                         "branches", key="method",
-                         fix="use method 'auto' or 'mna' (or mutual=False, own vias)")
-    if method != "mna" and ladder_ok:
-        self_l = np.zeros((1, g)) if lg is None else np.diagonal(lg, axis1=1, axis2=2)
-        return ladder_s(compiled, f, self_l)
     if method not in ("auto", "mna", "ladder"):
         raise InputError(f"unknown method {method!r}", key="method",
                          fix="use auto, mna or ladder")
-    return mna_s(compiled, f, lg)
+    g = compiled.n_terminals
+    # per candidate: where its ground connections are uncoupled the cascade is exact
+    coupled = (np.zeros(1, dtype=bool) if lg is None
+               else np.any(lg[:, ~np.eye(g, dtype=bool)], axis=1))
+    if method == "ladder" and (compiled.ladder is None or np.any(coupled)):
+        raise InputError("the ABCD fast path needs a plain ladder with uncoupled shunt "
+                         "branches", key="method",
+                         fix="use method 'auto' or 'mna' (or mutual=False, own vias)")
+    if method == "mna" or compiled.ladder is None:
+        return mna_s(compiled, f, lg)
+    self_l = np.zeros((1, g)) if lg is None else np.diagonal(lg, axis1=1, axis2=2)
+    if not np.any(coupled):
+        return ladder_s(compiled, f, self_l)
+    assert lg is not None
+    out = np.empty((len(coupled), len(f), 2, 2), dtype=complex)
+    out[~coupled] = ladder_s(compiled, f, self_l[~coupled])
+    out[coupled] = mna_s(compiled, f, lg[coupled])
+    return out

@@ -200,7 +200,12 @@ def _via_terms(c: CompiledCircuit, b: ViaBatch, model: str, mutual: bool) -> Via
         pair = mask[:, i, :, None] & mask[:, j, None, :]
         dd = 0.5 * (drill[:, i] + drill[:, j])[..., None, None]
         m = via_mutual_inductance(h[..., None, None], np.maximum(s, dd)) * scale[..., None, None]
-        mean[:, i, j] = (m * pair).sum(axis=(-1, -2)) / pair.sum(axis=(-1, -2))
+        # sum over each (candidate, pair)'s via pairs, added one after another in row
+        # order (bincount adds its weights in sequence): the padding to the batch's most
+        # vias is left out, so the rest of the batch cannot change a candidate's bits
+        cell = np.broadcast_to(np.arange(n * len(i)).reshape(n, -1, 1, 1), pair.shape)
+        total = np.bincount(cell[pair], weights=m[pair], minlength=n * len(i))
+        mean[:, i, j] = total.reshape(n, -1) / pair.sum(axis=(-1, -2))
         mean[:, j, i] = mean[:, i, j]
     return ViaTerms(lvia, mean, guard)
 
