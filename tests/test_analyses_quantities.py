@@ -10,6 +10,7 @@ board) and the demo table's numbers (invented demo data).
 from __future__ import annotations
 
 import json
+import re
 from pathlib import Path
 
 import numpy as np
@@ -26,6 +27,8 @@ from stackopt.cli.main import main
 from stackopt.inputs.costtable import load_cost_table
 from stackopt.inputs.scenario import demo_paths, load_scenario
 from stackopt.search.memo import ResponseMemo
+from stackopt.search.phenotype import batch_key, exact_key
+from stackopt.search.problem import Problem
 
 ROOT = Path(__file__).resolve().parents[1]
 QUICKTURN = ROOT / "cost_tables" / "quickturn.yaml"
@@ -148,6 +151,34 @@ def test_memo_refuses_another_circuit(demo):
     other = load_scenario(ROOT / "scenarios" / "consumer_emi.yaml")
     with pytest.raises(ValueError, match="one circuit"):
         stackopt.optimize(other, table, memo=memo)
+
+
+def test_memo_hands_a_search_only_the_response_of_its_own_numbers(demo, tmp_path):
+    """Two fabs whose cores differ by 0.3 nm: the phenotype key (quantized to 1 nm) is the
+    same, the numbers the circuit receives are not. A memo filled by the first fab's
+    search must not hand its responses to the second: the second's responses equal those
+    it solves with no memo, bit for bit (a memo keyed by the quantized phenotype copied
+    the first fab's). Independent reference: the same Problem solved without a memo."""
+    sc, table = demo
+    text = QUICKTURN.read_text(encoding="utf-8")
+    thin, n = re.subn(r"\{thickness: ([0-9.]+) mm",
+                      lambda m: f"{{thickness: {float(m.group(1)) + 3e-7:.7f} mm", text)
+    assert n == len(table.materials.cores)
+    (tmp_path / "thin.yaml").write_text(thin, encoding="utf-8")
+    other = load_cost_table(tmp_path / "thin.yaml")
+    memo = ResponseMemo()
+    cands = stackopt.optimize(sc, table, memo=memo).candidates
+    shared, alone = Problem(sc, other, memo=memo), Problem(sc, other)
+    g0, g1 = Problem(sc, table).space.geometry(cands), shared.space.geometry(cands)
+    gb0, gb1 = Problem(sc, table).ground_batch(g0), shared.ground_batch(g1)
+    same_bucket = np.all(batch_key(gb0) == batch_key(gb1), axis=1)
+    differ = np.any(exact_key(gb0) != exact_key(gb1), axis=1)
+    assert np.any(same_bucket & differ)  # the case the test is about is there
+    reused = memo.reused
+    s_shared, l_shared = shared.response(g1)
+    s_alone, l_alone = alone.response(g1)
+    assert memo.reused > reused  # rows with identical numbers (no core under the via) reused
+    assert np.array_equal(s_shared, s_alone) and np.array_equal(l_shared, l_alone)
 
 
 @pytest.mark.slow

@@ -1,11 +1,18 @@
 """Circuit responses remembered across the searches of one run.
 
-Physics does not depend on the order quantity or on the fab's prices: a phenotype (the
-key :meth:`Problem.response <stackopt.search.problem.Problem.response>` deduplicates on)
-gives the same S-parameters whatever the lot size or the cost table. A
-:class:`ResponseMemo` shared by several :class:`~stackopt.search.problem.Problem` objects
-(one scenario at several quantities, or against several fabs) lets each search solve only
-the phenotypes no earlier search has solved; the others are copied, bit for bit.
+Physics does not depend on the order quantity or on the fab's prices: the numbers the
+circuit receives (a ground batch row) give the same S-parameters whatever the lot size or
+the cost table. A :class:`ResponseMemo` shared by several
+:class:`~stackopt.search.problem.Problem` objects (one scenario at several quantities, or
+against several fabs) lets each search solve only the rows no earlier search has solved;
+the others are copied, bit for bit.
+
+The memo is keyed by the exact row (:func:`~stackopt.search.phenotype.exact_key`, each
+float's bit pattern), not by the quantized phenotype a search deduplicates its own batch
+on: two stackups a fraction of a nanometre apart share a quantized key, and a search
+handed the other one's response would no longer be the search run alone (NSGA-II's
+tie-breaks follow the last bits). With the exact key a search gets from the memo only
+what it would have solved itself.
 
 The memo is bound to the first problem's circuit and frequency grid (the inputs of the
 response besides the key) and refuses a problem with others, so it cannot hand out a
@@ -80,8 +87,8 @@ def _grow(a: np.ndarray, cap: int) -> np.ndarray:
 
 @dataclass(eq=False)
 class ResponseMemo:
-    """Responses (S (F, 2, 2) and the ground-inductance sum) by via model and phenotype
-    key, for one circuit on one frequency grid.
+    """Responses (S (F, 2, 2) and the ground-inductance sum) by via model and exact key
+    of the circuit's input, for one circuit on one frequency grid.
 
     Attributes
     ----------
@@ -116,7 +123,8 @@ class ResponseMemo:
     def lookup(self, model: str, keys: np.ndarray, shape_s: tuple[int, ...]
                ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """(rows found (U,) bool, S of the found rows, ground sums of the found rows) for
-        distinct phenotype ``keys`` (U, P), integer-valued, under ``model``."""
+        distinct exact keys ``keys`` (U, P) int64
+        (:func:`~stackopt.search.phenotype.exact_key`) under ``model``."""
         st = self._stores.get(model)
         if st is None:
             st = self._stores[model] = _Store(keys.shape[1], tuple(shape_s))

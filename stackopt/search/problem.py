@@ -23,7 +23,7 @@ from stackopt.model.geometry import LayerStack
 from stackopt.model.scenario import Scenario
 from stackopt.search.lineroutes import LineWork
 from stackopt.search.memo import ResponseMemo
-from stackopt.search.phenotype import batch_key, unique_rows
+from stackopt.search.phenotype import batch_key, exact_key, unique_rows
 from stackopt.search.space import Candidates, DielectricOptions, Geometry, Space
 
 __all__ = ["Problem", "Evaluation", "dielectric_options", "min_trace"]
@@ -217,8 +217,8 @@ class Problem(LineWork):
         s = np.empty((len(first), len(self.freqs), 2, 2), dtype=complex)
         lsum = np.zeros(len(first))
         todo = np.arange(len(first))
-        if self.memo is not None:  # copy what another problem of this circuit solved
-            keys = key[first]
+        if self.memo is not None:  # copy what another problem solved for the same numbers
+            keys = exact_key(gb.take(first))
             self.memo.bind(self.scenario.circuit, self.freqs)
             found, s_known, l_known = self.memo.lookup(model, keys, s.shape[1:])
             s[found], lsum[found] = s_known, l_known
