@@ -118,8 +118,8 @@ def _cheapest_robust(r: Result, sampler: _Sampler) -> int | None:
 def analyse(result: Result, progress: Progress | None = None) -> Result:
     """The search's result with robust margins (every candidate), the model spread and
     Monte Carlo yields (the front, the picks and the boards of the prepreg answer,
-    :mod:`stackopt.analyses.prepregs`), the ``cheapest_robust`` pick and what limits
-    each pick's circuit.
+    :mod:`stackopt.analyses.prepregs`), the ``cheapest_robust`` pick, what limits
+    each pick's circuit and the mitigation ladder (``Result.ladder``).
 
     Cost: one more solve per phenotype for each listed model other than the ranking
     one; one batch of ``samples`` builds per sampled candidate. ``progress(done,
@@ -155,4 +155,6 @@ def analyse(result: Result, progress: Progress | None = None) -> Result:
         spread[m] = full
     r = replace(r, spread=spread, yields=sampler.yields, impedance_range=sampler.zrange,
                 build_margins={i: sampler.margins[i] for i in picked.tolist()})
-    return replace(r, limits=pick_limits(r))
+    r = replace(r, limits=pick_limits(r))
+    _ = r.ladder  # the mitigation ladder (stackopt.search.ladder), built with the analyses
+    return r
