@@ -55,7 +55,9 @@ def test_candidates_csv_in_blocks_equals_the_whole_table(block, monkeypatch):
 
 def test_front_csv_rows_are_the_front_by_cost():
     result = run()
-    back = pd.read_csv(io.StringIO(exports.front_csv(result)))
+    text = exports.front_csv(result)
+    assert text == pandas_csv(result.frame(np.asarray(result.front_order)))
+    back = pd.read_csv(io.StringIO(text))
     assert list(back["id"]) == [result.ids[i] for i in result.front_order]
     assert all(math.isclose(a, b, rel_tol=1e-9) for a, b in
                zip(back["unit_cost"], result.evaluation.unit_cost[result.front_order],

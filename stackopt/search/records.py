@@ -13,10 +13,9 @@ import numpy as np
 
 from stackopt import __version__
 from stackopt.search.problem import Evaluation, Problem
+from stackopt.search.table import candidate_frame
 
 if TYPE_CHECKING:
-    import pandas as pd
-
     from stackopt.search.results import Result
 
 __all__ = ["MODEL_DEPENDENT_DB", "metrics_record", "candidate_record", "candidate_frame",
@@ -112,65 +111,6 @@ def candidate_record(result: Result, i: int, check_lines: bool = False) -> dict:
                           json_number(result.impedance_range[i, r, 1])]
                 for r, rt in enumerate(result.problem.routes) if ev.line_layers[i, r] >= 0}
     return out
-
-
-def candidate_frame(result: Result, rows: np.ndarray | None = None) -> pd.DataFrame:
-    """The rows ``rows`` (default: all) of the table of candidates (:meth:`Result.frame`);
-    only those rows' strings are built, so a large result can be written in bounded
-    blocks."""
-    rows = np.arange(result.n) if rows is None else np.asarray(rows, dtype=np.int64)
-    ev, g, sc, sp = result.evaluation, result.evaluation.geometry, result.problem.scenario, \
-        result.problem.space
-    c = result.candidates.take(rows)
-    arr_names = np.array([a.name for a in sp.arrangements])
-    # materials text built once per distinct build (arrangement + slot options)
-    _, first, inv = np.unique(np.column_stack([c.arr, c.slot]), axis=0,
-                              return_index=True, return_inverse=True)
-    names = sp.slot_names(c.take(first))
-    mats = np.array([" / ".join(x for x in r if x) for r in names], dtype=object)[
-        inv.reshape(-1)]
-    cols: dict[str, object] = {
-        "id": np.char.mod("C%05d", rows + 1).astype(object),
-        "layers": g.layers[rows],
-        "arrangement": arr_names[c.arr],
-        "materials": mats,
-        "thickness_m": g.thickness[rows],
-        "ground_plane_depth_m": g.via_height[rows],
-        "er_top": g.trace_er[rows],
-        "copper_m": g.copper[rows],
-        "drill_m": g.drill[rows],
-        "vias_per_ground": g.vias[rows],
-    }
-    for m in sp.mitigations:
-        cols[m] = g.flags[m][rows]
-    cols.update({
-        "unit_cost": ev.unit_cost[rows], "lot_cost": ev.lot_cost[rows],
-        "lead_time_days": ev.lead_time_days[rows], "margin_dB": ev.margin[rows],
-        "ground_inductance_H": ev.inductance[rows],
-    })
-    for k, r in enumerate(sc.requirements):
-        cols[f"attenuation_dB_{r.key}Hz"] = ev.attenuation[rows, k]
-    for col, rt in enumerate(result.problem.routes):
-        cols[f"width_{rt.name}_m"] = ev.widths[rows, col]
-    cols["feasible"] = result.feasible[rows]
-    cols["meets_requirements"] = result.meets[rows]
-    cols["violations"] = _violation_text(result, rows)
-    cols["on_front"] = result.on_front[rows]
-    import pandas as pd  # only the tables need it (loaded where they are written)
-
-    return pd.DataFrame(cols)
-
-def _violation_text(result: Result, rows: np.ndarray) -> np.ndarray:
-    """The constraints each of ``rows`` violates, as text; strings are built only for
-    the rows that violate something."""
-    text = np.full(len(rows), "", dtype=object)
-    for k, v in result.evaluation.violations.items():
-        hit = np.flatnonzero(v[rows] > 0)
-        if not len(hit):
-            continue
-        new = [f"{k} (+{x:.3g})" for x in v[rows[hit]].tolist()]
-        text[hit] = [f"{a}; {b}" if a else b for a, b in zip(text[hit].tolist(), new, strict=True)]
-    return text
 
 
 def summary(result: Result, extra: dict | None = None) -> dict:

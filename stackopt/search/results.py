@@ -22,6 +22,7 @@ from stackopt.search.records import (
 )
 from stackopt.search.responses import Sweeps
 from stackopt.search.space import Candidates, candidate_stackup
+from stackopt.search.table import CandidateIds
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -70,9 +71,10 @@ class Result:
         return self.problem.space.size
 
     @cached_property
-    def ids(self) -> list[str]:
-        """Stable candidate ids (evaluation order)."""
-        return [f"C{i + 1:05d}" for i in range(self.n)]
+    def ids(self) -> CandidateIds:
+        """Stable candidate ids (evaluation order; :data:`~stackopt.search.table.ID_FORMAT`),
+        each built when asked."""
+        return CandidateIds(self.n)
 
     @cached_property
     def feasible(self) -> np.ndarray:
@@ -253,7 +255,7 @@ class Result:
 
     def frame(self, rows: np.ndarray | None = None) -> pd.DataFrame:
         """The rows ``rows`` (default: all) of the table of candidates
-        (:func:`stackopt.search.records.candidate_frame`)."""
+        (:func:`stackopt.search.table.candidate_frame`)."""
         return candidate_frame(self, rows)
 
     def to_summary(self, extra: dict | None = None) -> dict:
