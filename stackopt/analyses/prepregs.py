@@ -16,6 +16,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from stackopt.search.order import lexmin
+
 __all__ = ["PrepregRow", "top_options", "prepreg_rows", "row_boards", "most_robust_row",
            "cheapest_meeting_row"]
 
@@ -56,7 +58,7 @@ def _first(idx: np.ndarray, *keys: np.ndarray) -> int | None:
     """The element of ``idx`` first by ``keys`` (primary first), then by index."""
     if not len(idx):
         return None
-    return int(idx[np.lexsort((idx, *[k[idx] for k in reversed(keys)]))[0]])
+    return int(idx[lexmin([k[idx] for k in reversed(keys)])])  # then by index
 
 
 def prepreg_rows(result) -> list[PrepregRow]:

@@ -18,6 +18,7 @@ import numpy as np
 
 from stackopt.outputs.facts import money, selected_index, shortfalls
 from stackopt.outputs.reasons import because, would_work_if
+from stackopt.search.order import lexmin
 
 if TYPE_CHECKING:
     from stackopt.search.results import Result
@@ -153,7 +154,7 @@ def fewer_layers_words(result: Result, n: int) -> str:
             continue
         ok = idx[result.feasible[idx]]
         if len(ok):
-            i = int(ok[np.lexsort((-ev.margin[ok], ev.unit_cost[ok]))[0]])
+            i = int(ok[lexmin((-ev.margin[ok], ev.unit_cost[ok]))])
             fails = [f"{lab} by {-m:.1f} dB" for lab, _a, _r, m in shortfalls(result, i)
                      if m < 0]
             text.append(f"The cheapest {k}-layer board that can be built, {result.ids[i]} "
@@ -162,7 +163,7 @@ def fewer_layers_words(result: Result, n: int) -> str:
                            else "meets every requirement") + ".")
         else:
             v = np.stack([ev.violations[c][idx] for c in ev.violations])
-            i = int(idx[np.lexsort((v.sum(axis=0), (v > 0).sum(axis=0)))[0]])
+            i = int(idx[lexmin((v.sum(axis=0), (v > 0).sum(axis=0)))])
             text.append(f"No {k}-layer board can be built (the nearest, {result.ids[i]}: "
                         f"{'; '.join(because(result.problem, ev, i))}).")
     return " ".join(text)

@@ -41,6 +41,7 @@ import numpy as np
 from stackopt.model.mitigations import MITIGATIONS
 from stackopt.search.evalrows import KnownRows, take_rows
 from stackopt.search.front import nondominated
+from stackopt.search.order import lexmin
 from stackopt.search.problem import Evaluation, Problem
 from stackopt.search.space import Candidates, Space
 from stackopt.search.twolayer import (
@@ -308,7 +309,7 @@ def _four_layer(result) -> tuple[int | None, str]:
     if not len(idx):
         return None, "No four-layer board evaluated meets every requirement."
     ev = result.evaluation
-    i = int(idx[np.lexsort((idx, -ev.margin[idx], ev.unit_cost[idx]))[0]])
+    i = int(idx[lexmin((-ev.margin[idx], ev.unit_cost[idx]))])
     return i, "The cheapest four-layer board that meets every requirement."
 
 

@@ -11,6 +11,7 @@ import numpy as np
 
 from stackopt.search.front import nondominated
 from stackopt.search.ladder import Ladder, mitigation_ladder
+from stackopt.search.order import lexmin
 from stackopt.search.picks import PICKS
 from stackopt.search.problem import Evaluation, Problem
 from stackopt.search.records import (
@@ -168,14 +169,14 @@ class Result:
             return None
         ev = self.evaluation
         cx = self.complexity[idx]
+        keys: tuple[np.ndarray, ...]
         if by == "cost":  # cheapest; ties by better electrical objective, then simplest
-            order = np.lexsort((idx, cx, self.objectives[idx, 1], ev.unit_cost[idx]))
+            keys = (cx, self.objectives[idx, 1], ev.unit_cost[idx])
         elif by == "robust":  # best robust margin; ties by yield, cost, then simplest
-            order = np.lexsort((idx, cx, ev.unit_cost[idx], -self.yield_or_low[idx],
-                                -self.robust_margin[idx]))
+            keys = (cx, ev.unit_cost[idx], -self.yield_or_low[idx], -self.robust_margin[idx])
         else:  # best electrical objective; ties by cost, then simplest
-            order = np.lexsort((idx, cx, ev.unit_cost[idx], self.objectives[idx, 1]))
-        return int(idx[order[0]])
+            keys = (cx, ev.unit_cost[idx], self.objectives[idx, 1])
+        return int(idx[lexmin(keys)])  # then the first index
 
     @cached_property
     def picks(self) -> dict[str, int | None]:
