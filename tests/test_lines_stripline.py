@@ -81,3 +81,20 @@ def test_offset_symmetry_and_limits():
     h1, h2 = (b - t) / 2 + 0.2e-3, (b - t) / 2 - 0.2e-3
     z1, z2 = stripline(w, 2 * h1 + t, er, t), stripline(w, 2 * h2 + t, er, t)
     assert z[2] == pytest.approx(2 * z1 * z2 / (z1 + z2))
+
+
+def test_elliptic_ratio_by_the_agm_against_scipy():
+    # K(k)/K(k') by the arithmetic-geometric mean (DLMF 19.8.5) against scipy's ellipkm1
+    # (Cephes), over k^2 from near the smallest normal double to 1 - 1e-16 and both ways
+    # round, so both tails (k -> 0, k -> 1) are covered; and its limits
+    from scipy.special import ellipkm1
+
+    from stackopt.physics.stripline import elliptic_ratio
+
+    small = np.logspace(-307, -0.31, 3000)  # up to about 0.49
+    for k2, kp2 in ((small, 1.0 - small), (1.0 - small, small)):
+        ref = ellipkm1(kp2) / ellipkm1(k2)
+        np.testing.assert_allclose(elliptic_ratio(k2, kp2), ref, rtol=2e-15, atol=0)
+    assert elliptic_ratio(0.5, 0.5) == pytest.approx(1.0, abs=1e-15)  # K(k) = K(k') there
+    assert elliptic_ratio(0.0, 1.0) == 0.0 and elliptic_ratio(1.0, 0.0) == np.inf
+    assert elliptic_ratio(np.full((2, 3), 0.2), 0.8).shape == (2, 3)  # broadcasts
