@@ -221,3 +221,26 @@ def test_the_summary_rows_are_the_tables_rows(demos, name):
     if lad.four_layer is not None:
         four = pd.DataFrame(lad._columns(lad.four_layer, lad.four_layer_evaluation))
         assert json.dumps(s["four_layer"]) == json.dumps(rows(four)[0])
+
+
+@pytest.mark.parametrize("name", ["two", "emi", "harmonic"])
+def test_every_step_is_numbered_once_and_coincident_steps_share_a_label(demos, name):
+    # steps on one spot (a change that neither costs nor helps) get one "0-2" label
+    # instead of numbers beside hidden markers; every step is named exactly once
+    from matplotlib.text import Annotation
+
+    from stackopt.outputs.plots_ladder import plot_mitigations
+
+    lad = demos[name].ladder
+    if lad is None or lad.blocked:
+        pytest.skip("no ladder")
+    ax = plot_mitigations(lad, demos[name]).axes[0]
+    named: list[int] = []
+    for t in (c for c in ax.get_children() if isinstance(c, Annotation)):
+        text = t.get_text()
+        if "\u2013" in text:
+            a, b = map(int, text.split("\u2013"))
+            named += range(a, b + 1)
+        else:
+            named += [int(v) for v in text.split(", ")]
+    assert sorted(named) == list(range(len(lad.steps)))

@@ -41,15 +41,6 @@ def plot_mitigations(ladder: Ladder, result: Result) -> Figure:
     ax.plot(x, y, color=layer_color(2), lw=1.8, zorder=4)
     ax.scatter(x, y, s=46, marker=LAYER_MARKERS[2], facecolor=layer_color(2),
                edgecolor="black", linewidths=0.6, zorder=5, label="mitigation ladder")
-    # steps of one cost (free steps) share an x: their numbers are spread sideways
-    same = np.r_[False, np.isclose(np.diff(x), 0.0, atol=1e-9 * max(1.0, float(x.max())))]
-    j = 0
-    for k in range(len(x)):
-        j = j + 1 if same[k] else 0
-        ax.annotate(str(k), (x[k], y[k]), xytext=(6 + 12 * j, 6 if j % 2 == 0 else -12),
-                    textcoords="offset points", fontsize=8.5, zorder=6,
-                    bbox={"boxstyle": "round,pad=0.1", "fc": "white", "ec": "none",
-                          "alpha": 0.8})
     fev = ladder.four_layer_evaluation
     if fev is not None:
         ax.scatter(fev.unit_cost, fev.margin, s=70, marker=LAYER_MARKERS[4],
@@ -66,8 +57,30 @@ def plot_mitigations(ladder: Ladder, result: Result) -> Figure:
         lo, hi = float(allv.min()), float(allv.max())
         pad = 0.1 * max(hi - lo, 1.0)
         ax.set_ylim(min(lo, 0.0) - pad, max(hi, 0.0) + pad)
+    _number_steps(ax, x, y, np.concatenate([x, pev.unit_cost]
+                                            + ([fev.unit_cost] if fev is not None else [])))
     ax.set_xlabel(f"Cost per board ({cur}, lot of {result.problem.scenario.board.quantity:,})")
     ax.set_ylabel("Margin over the requirements (dB, worst requirement)")
     ax.set_title("What a two-layer board reaches, one change at a time (numbers: steps)")
     ax.legend(loc="best")
     return fig
+
+
+def _number_steps(ax, x: np.ndarray, y: np.ndarray, all_x: np.ndarray) -> None:
+    """Number the ladder's steps. Consecutive steps that land on one spot (within 1.5 %
+    of the axes' spans: a change that neither costs nor helps) share one label, "0-2" or
+    "3, 4", instead of numbers beside hidden markers; labels of different spots at one
+    cost are spread sideways."""
+    lo, hi = ax.get_ylim()
+    x_tol = 0.015 * max(float(np.ptp(all_x)), 1e-9 * max(1.0, float(np.max(np.abs(all_x)))))
+    near = (np.abs(np.diff(x)) <= x_tol) & (np.abs(np.diff(y)) <= 0.015 * (hi - lo))
+    starts = np.flatnonzero(np.r_[True, ~near]).tolist()
+    ends = (np.r_[starts[1:], len(x)] - 1).tolist()
+    col = 0
+    for g, (a, b) in enumerate(zip(starts, ends, strict=True)):
+        col = col + 1 if g and abs(x[a] - x[starts[g - 1]]) <= x_tol else 0
+        text = str(a) if a == b else (f"{a}, {b}" if b == a + 1 else f"{a}\u2013{b}")
+        ax.annotate(text, (x[a], y[a]), xytext=(6 + 16 * col, 6 if col % 2 == 0 else -12),
+                    textcoords="offset points", fontsize=8.5, zorder=6,
+                    bbox={"boxstyle": "round,pad=0.1", "fc": "white", "ec": "none",
+                          "alpha": 0.8})
