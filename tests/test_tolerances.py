@@ -246,3 +246,20 @@ def test_equal_yield_keys_give_equal_builds(tmp_path):
     assert len(unique_rows(yield_key(p, gp))[0]) == 2
     mp = monte_carlo(p, gp, np.zeros((2, 0)), "goldfarb-pucel", d)
     assert not np.array_equal(mp.margin[0], mp.margin[1])
+
+
+def test_normal_quantile_against_scipy_ndtri():
+    # Wichura's AS 241 in numpy against scipy's ndtri (Cephes), both tails down to
+    # 1e-300 and the centre; the inverse of scipy's ndtr; the limits
+    from scipy.special import ndtri
+
+    from stackopt.analyses.tolerances import normal_quantile
+
+    p = np.concatenate([np.logspace(-300, -1, 3000), np.linspace(0.01, 0.99, 2001),
+                        1.0 - np.logspace(-15, -1, 500)])
+    np.testing.assert_allclose(normal_quantile(p), ndtri(p), rtol=2e-15, atol=1e-15)
+    z = np.linspace(-8.0, 3.0, 111)  # above 3, p = ndtr(z) near 1 has lost the digits
+    np.testing.assert_allclose(normal_quantile(ndtr(z)), z, rtol=1e-9, atol=1e-9)
+    assert normal_quantile(0.5) == 0.0
+    assert list(normal_quantile(np.array([0.0, 1.0]))) == [-np.inf, np.inf]
+    assert normal_quantile(0.975) == pytest.approx(1.959963984540054, rel=1e-15)  # from memory
