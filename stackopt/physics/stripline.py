@@ -30,8 +30,8 @@ def elliptic_ratio(k2: ArrayLike, kp2: ArrayLike) -> _F:
 
     .. math::
 
-        K(k) = rac{\pi}{2\,M(1, k')}\quad\Rightarrow\quad
-        rac{K(k)}{K(k')} = rac{M(1, k)}{M(1, k')},
+        K(k) = \frac{\pi}{2\,M(1, k')}\quad\Rightarrow\quad
+        \frac{K(k)}{K(k')} = \frac{M(1, k)}{M(1, k')},
 
     with :math:`k = \sqrt{k^2}` and :math:`k' = \sqrt{k'^2}` taken from the two squares
     passed, so that neither is formed as ``1 - x`` (which loses all precision near 1).
