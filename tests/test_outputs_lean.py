@@ -80,8 +80,12 @@ def test_slot_names_of_the_whole_batch_match_each_candidate_in_words():
 def test_formatter_equals_pandas_on_a_column_of_few_values():
     # few distinct values take the formatted-once path: -0.0, NaN and inf keep their text
     vals = np.array([0.0, -0.0, np.nan, np.inf, 35e-6, 1.6e-3, 0.1 + 0.2])
-    df = pd.DataFrame({"x": np.random.default_rng(5).choice(vals, size=400),
-                       "n": np.arange(400, dtype=np.int64)})
+    rng = np.random.default_rng(5)
+    df = pd.DataFrame({"x": rng.choice(vals, size=400),
+                       "n": np.arange(400, dtype=np.int64),
+                       "k": rng.integers(-3, 3, 400),  # few distinct integers
+                       "u": rng.integers(0, 2**63, 400, dtype=np.uint64) // 2**40 * 2**40,
+                       "b": rng.random(400) < 0.3})
     text = exports._csv(df)
     assert text == pandas_csv(df)
     assert "-0," in text and ",\n" not in text.splitlines()[0]

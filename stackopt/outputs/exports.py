@@ -33,6 +33,7 @@ __all__ = ["candidates_csv", "csv_blocks", "front_csv", "mitigations_csv", "sele
 #: :func:`stackopt.inputs.stackup_file.load_selected_yaml`).
 FORMAT = "stackopt-stackup/1"
 _TRIGGERS = ("=", "+", "-", "@", "\t", "\r")
+_BOOL_TEXT = np.array(["False", "True"], dtype=object)
 
 
 def csv_safe(value: object) -> object:
@@ -58,30 +59,25 @@ def _cell(value: object) -> str:
     return text
 
 
-def _column(values: np.ndarray) -> tuple[str, list]:
-    """(%-format, Python values) of one column: floats as ``%.10g`` (missing: empty),
-    integers as ``%d``, booleans as True/False, anything else as text cells."""
+def _column(values: np.ndarray) -> list[str]:
+    """One column's cells as CSV text, in the layout of pandas' ``to_csv`` with
+    ``float_format="%.10g"``: floats as ``%.10g`` (missing: empty), integers in decimal,
+    booleans as True/False, anything else as text cells (:func:`_cell`). A column of few
+    distinct values (copper, drill, thicknesses, costs, layer counts) is formatted once
+    per value."""
     import pandas as pd  # tables are written where pandas is loaded (the drawing process)
 
     kind = values.dtype.kind
-    if kind == "f" and values.dtype.itemsize == 8:
-        # few distinct values (copper, drill, thicknesses, costs): each formatted once;
+    if kind == "b":
+        return _BOOL_TEXT[values.astype(np.intp)].tolist()
+    if kind in "fiu" and values.dtype.itemsize == 8:
         # grouped by bit pattern, so -0.0 and 0.0 and every NaN keep their own text
         codes, bits = pd.factorize(values.view(np.int64), use_na_sentinel=False)
         if 4 * len(bits) < len(values):
-            uniq = np.asarray(bits, dtype=np.int64).view(np.float64)
-            cells = np.array(["" if math.isnan(u) else f"{u:.10g}" for u in uniq.tolist()],
-                             dtype=object)
-            return "%s", cells[codes].tolist()
-    if kind == "f":
-        nan = np.isnan(values)
-        if nan.any():
-            return "%s", np.where(nan, "", np.char.mod("%.10g", values)).tolist()
-        return "%.10g", values.tolist()
-    if kind in "iu":
-        return "%d", values.tolist()
-    if kind == "b":
-        return "%s", values.tolist()  # Python bools: "%s" writes True / False
+            uniq = np.asarray(bits, dtype=np.int64).view(values.dtype)
+            return np.array(_texts(uniq), dtype=object)[codes].tolist()
+    if kind in "fiu":
+        return _texts(values)
     codes, uniques = pd.factorize(values, use_na_sentinel=False)
     u = pd.Series(uniques, dtype=object)
     exact_str = u.map(lambda v: type(v) is str).astype(bool)  # not numpy's str subclass
@@ -89,24 +85,31 @@ def _column(values: np.ndarray) -> tuple[str, list]:
         & ~u.str.startswith(_TRIGGERS, na=True)  # most cells: written as they are
     cells = np.array([v if ok else _cell(v)
                       for v, ok in zip(u.tolist(), plain.tolist(), strict=True)], dtype=object)
-    return "%s", cells[codes].tolist()  # each distinct text handled once
+    return cells[codes].tolist()  # each distinct text handled once
+
+
+def _texts(values: np.ndarray) -> list[str]:
+    """Numbers as CSV text: floats ``%.10g`` (NaN: empty), integers in decimal."""
+    if values.dtype.kind == "f":
+        return ["" if x != x else f"{x:.10g}" for x in values.tolist()]  # x != x: NaN
+    return [str(x) for x in values.tolist()]
 
 
 def _csv(df: pd.DataFrame, header: bool = True) -> str:
     """The table as CSV text (the layout pandas' ``to_csv`` gives with
-    ``float_format="%.10g"``), formatted a row at a time by one %-format: about four
-    times faster than pandas for the large tables of candidates."""
+    ``float_format="%.10g"``), each column's cells made as text and each row joined
+    once: about six times faster than pandas for the large tables of candidates."""
     return _csv_text({str(c): df[c].to_numpy() for c in df.columns}, header)
 
 
 def _csv_text(columns: Mapping[str, np.ndarray | Template], header: bool = True) -> str:
-    """Columns (arrays of N, or a :class:`~stackopt.search.table.Template` whose format
-    goes into the row format as it is) as the CSV text of :func:`_csv`."""
-    cols = [(v.fmt, v.values.tolist()) if isinstance(v, Template) else _column(v)
-            for v in columns.values()]
-    fmt = ",".join(f for f, _ in cols) + "\n"
+    """Columns (arrays of N, or a :class:`~stackopt.search.table.Template`, whose cells
+    need no quoting) as the CSV text of :func:`_csv`."""
+    cells = [v.cells() if isinstance(v, Template) else _column(v) for v in columns.values()]
     head = ",".join(_cell(c) for c in columns) + "\n" if header else ""
-    return head + "".join([fmt % row for row in zip(*(v for _, v in cols), strict=True)])
+    if not cells or not len(cells[0]):
+        return head
+    return head + "\n".join(map(",".join, zip(*cells, strict=True))) + "\n"
 
 
 def csv_blocks(result: Result) -> int:

@@ -5,8 +5,8 @@ candidate ids.
 :func:`candidate_columns` gives the columns of chosen rows as arrays; the frame is a
 DataFrame of them and the CSV writer (:mod:`stackopt.outputs.exports`) formats them
 straight from the arrays. Strings are built only for the rows asked for, and the id
-column is a :class:`Template` (a format and the row numbers): the CSV writer puts the
-format into its row format and never builds the 445,000 id strings of a large result.
+column is a :class:`Template` (a format and the row numbers): the ids of a large
+result's 445,000 rows are built a block at a time, where they are written.
 """
 
 from __future__ import annotations
@@ -58,17 +58,20 @@ class CandidateIds(Sequence[str]):
 
 @dataclass(frozen=True)
 class Template:
-    """A text column given as one %-format and its values (N,): ``text()`` builds the
-    strings; a writer may instead put ``fmt`` into its row format. The format's text
-    needs no CSV quoting or neutralisation (no comma, quote, line break or leading
-    ``= + - @``)."""
+    """A text column given as one %-format and its values (N,), its strings built only
+    where they are written. The format's text needs no CSV quoting or neutralisation
+    (no comma, quote, line break or leading ``= + - @``)."""
 
     fmt: str
     values: np.ndarray
 
+    def cells(self) -> list[str]:
+        """The cells as text."""
+        return [self.fmt % x for x in self.values.tolist()]
+
     def text(self) -> np.ndarray:
         """The cells as an object array of str."""
-        return np.char.mod(self.fmt, self.values).astype(object)
+        return np.array(self.cells(), dtype=object)
 
 
 def distinct_rows(a: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
