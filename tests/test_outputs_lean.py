@@ -89,3 +89,18 @@ def test_formatter_equals_pandas_on_a_column_of_few_values():
     text = exports._csv(df)
     assert text == pandas_csv(df)
     assert "-0," in text and ",\n" not in text.splitlines()[0]
+
+
+def test_a_record_is_made_once_and_each_caller_gets_its_own_copy():
+    # Result.record keeps the records it made (the summary, the stackup files and the
+    # comparisons read the same boards); a caller changing its copy changes no other
+    from stackopt.search.records import candidate_record
+
+    r = run()
+    i = int(r.front_order[0])
+    a = r.record(i)
+    a["id"] = "changed"
+    a["stackup"].clear()
+    b = r.record(i)
+    assert b == candidate_record(r, i) and b["id"] == r.ids[i] and b["stackup"]
+    assert r.record(i, check_lines=True) == candidate_record(r, i, check_lines=True)

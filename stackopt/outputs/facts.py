@@ -120,9 +120,11 @@ def responses(result: Result, idx: Sequence[int] | np.ndarray, freqs: np.ndarray
             20 * np.log10(np.abs(s0[:, 1, 0]) + tiny))
 
 
-def top_dielectric(result: Result) -> np.ndarray:
-    """Name of the dielectric under the top copper of every candidate (N,) str."""
-    return result.problem.space.slot_names(result.candidates, 0)
+def top_dielectric(result: Result, rows: np.ndarray | None = None) -> np.ndarray:
+    """Name of the dielectric under the top copper of the candidates ``rows`` (default:
+    every candidate), (len(rows),) str."""
+    c = result.candidates if rows is None else result.candidates.take(rows)
+    return result.problem.space.slot_names(c, 0)
 
 
 def shortfalls(result: Result, i: int) -> list[tuple[str, float, float, float]]:

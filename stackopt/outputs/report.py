@@ -233,16 +233,18 @@ def picks_table(result: Result) -> tuple:
     """Every named pick in one table."""
     ev, cur = result.evaluation, result.problem.table.currency
     rows = []
-    tops = top_dielectric(result)
     picks = unique_picks(result)
-    pband = passband_losses(result, [i for i, _ in picks])
+    idx = np.array([i for i, _ in picks], dtype=np.int64)
+    tops = top_dielectric(result, idx)  # the picks' rows only, not every candidate's
+    heights = result.problem.space.geometry(result.candidates.take(idx)).trace_height
+    pband = passband_losses(result, idx.tolist())
     for k, (i, names) in enumerate(picks):
         mit = [m for m in result.problem.space.mitigations if ev.geometry.flags[m][i]]
         rows.append([" / ".join(PICKS[n].report for n in names), result.ids[i],
                      str(_layers(result, i)), money(ev.unit_cost[i], cur),
                      money(ev.lot_cost[i], cur, 0), margin_cell(result, i),
                      f"{ev.lead_time_days[i]:g} days",
-                     f"{tops[i]}, {mm(ev.geometry.trace_height[i])}",
+                     f"{tops[k]}, {mm(heights[k])}",
                      ", ".join(m.replace("_", " ") for m in mit) or "none"])
         if pband is not None:
             rows[-1].insert(6, f"{db(pband[0][k], 2)} / {db(pband[1][k])}")

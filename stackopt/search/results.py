@@ -3,6 +3,7 @@ the JSON-ready summary (the contract the report, exports and users' scripts rely
 
 from __future__ import annotations
 
+import copy
 from dataclasses import dataclass, field
 from functools import cached_property
 from typing import TYPE_CHECKING
@@ -243,10 +244,20 @@ class Result:
                 for k in field_keys(self.problem, self._one(i), 0, widths[i]))
         return [k for k in dict.fromkeys(keys) if k not in self.line_solves]
 
+    @cached_property
+    def _records(self) -> dict[tuple[int, bool], dict]:
+        """Candidate records made so far, by (row, check_lines)."""
+        return {}
+
     def record(self, i: int, check_lines: bool = False) -> dict:
         """Candidate ``i`` as a JSON-ready dict (the summary's candidate record,
-        :func:`stackopt.search.records.candidate_record`)."""
-        return candidate_record(self, i, check_lines)
+        :func:`stackopt.search.records.candidate_record`), made once per result (the
+        summary, the stackup files and the comparisons read the same boards); each call
+        returns its own copy."""
+        key = (int(i), bool(check_lines))
+        if key not in self._records:
+            self._records[key] = candidate_record(self, key[0], key[1])
+        return copy.deepcopy(self._records[key])
 
     @cached_property
     def table(self) -> pd.DataFrame:
