@@ -156,12 +156,12 @@ def test_field_solves_sent_ahead_give_the_serial_bytes(monkeypatch):
     # The picks' field solves run in the drawer while the analyses run here; the files
     # must be the bytes of one process that solves everything itself.
     import stackopt
-    from stackopt.outputs.bundle import LinesAhead, render_all, warm
+    from stackopt.outputs.bundle import Ahead, render_all, warm
     from tests.outputs_support import DEMO
 
     monkeypatch.setenv("STACKOPT_JOBS", "2")
     drawer = _drawer_or_skip(warm)
-    ahead = LinesAhead(drawer)
+    ahead = Ahead(drawer)
     with drawer:
         result = stackopt.optimize(DEMO, searched=ahead)
         drawn = render_all(result, drawer=drawer, ahead=ahead)
@@ -170,3 +170,20 @@ def test_field_solves_sent_ahead_give_the_serial_bytes(monkeypatch):
     serial = render_all(run())
     assert list(drawn) == list(serial)
     assert [k for k in drawn if drawn[k] != serial[k]] == []
+
+
+def test_objects_the_drawer_keeps_are_sent_once(monkeypatch):
+    # keep() sends a large part once; a later task that holds the very object sends its
+    # name, and the drawer computes with its copy
+    import numpy as np
+
+    monkeypatch.setenv("STACKOPT_JOBS", "2")
+    big = np.arange(1_000_000, dtype=np.float64)
+    with _drawer_or_skip() as d:
+        sizes: list[int] = []
+        send = d._conn.send_bytes
+        monkeypatch.setattr(d._conn, "send_bytes", lambda b: (sizes.append(len(b)), send(b)))
+        assert d.keep(big=big)
+        assert d.submit(np.sum, big) and d.result() == float(np.sum(big))
+        assert d.submit(np.sum, big.copy()) and d.result() == float(np.sum(big))
+    assert sizes[0] > 8_000_000 and sizes[1] < 1_000 < 8_000_000 < sizes[2]

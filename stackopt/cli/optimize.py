@@ -95,7 +95,7 @@ def run(args: argparse.Namespace) -> int:
     import stackopt
     from stackopt.analyses.quantities import quantity_sweep
     from stackopt.errors import Interrupted
-    from stackopt.outputs.bundle import LinesAhead, warm, write_all
+    from stackopt.outputs.bundle import Ahead, warm, write_all
     from stackopt.outputs.drawer import Drawer
     from stackopt.outputs.files import prepare_out_dir
     from stackopt.outputs.resultdir import pause_point
@@ -126,7 +126,7 @@ def run(args: argparse.Namespace) -> int:
     import stackopt.search.api  # noqa: F401
 
     drawer = Drawer.start(warm)
-    ahead = LinesAhead(drawer)  # the picks' field solves, there, during the analyses
+    ahead = Ahead(drawer)  # sent there while the analyses run here (field solves, search)
     try:
         pause_point("search")
         result = stackopt.optimize(inp.scenario, inp.table, seed=args.seed,

@@ -30,7 +30,7 @@ if TYPE_CHECKING:
     from stackopt.outputs.parallel import Job
     from stackopt.search.results import Result
 
-__all__ = ["FILES", "LinesAhead", "drawing_jobs", "drawn", "render_all", "warm", "write_all"]
+__all__ = ["FILES", "Ahead", "drawing_jobs", "drawn", "render_all", "warm", "write_all"]
 
 #: The fixed file names, in writing order.
 FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.md",
@@ -62,23 +62,33 @@ def _touchstone(result: Result, i: int) -> str:
     return touchstone_text(f, s[0], pb.compiled.z0, comment=comment)
 
 
-class LinesAhead:
-    """The picks' field solves (:mod:`stackopt.analyses.lines`), sent to a
-    :class:`~stackopt.outputs.drawer.Drawer` between the search and its analyses: pass it
-    as ``optimize(searched=...)``, and to :func:`render_all`, which collects them. The
-    drawer is idle then (the drawing needs the analysed result); the solves are the
-    report's largest share of CPU. Picks the analyses add (``cheapest_robust``) are
-    solved here when their cross-sections are new."""
+class Ahead:
+    """Work sent to a :class:`~stackopt.outputs.drawer.Drawer` between the search and its
+    analyses (pass it as ``optimize(searched=...)`` and to :func:`render_all`): the
+    drawer is idle then, since the drawing needs the analysed result.
+
+    - the picks' field solves (:mod:`stackopt.analyses.lines`, the report's largest
+      share of CPU), collected by :func:`render_all`; picks the analyses add
+      (``cheapest_robust``) are solved here when their cross-sections are new;
+    - the search's problem, candidates and evaluation, which the analyses do not change
+      (:meth:`~stackopt.outputs.drawer.Drawer.keep`): the drawing task later sends only
+      what the analyses added.
+    """
 
     def __init__(self, drawer: Drawer | None) -> None:
         self._drawer, self._sent = drawer, False
 
     def __call__(self, result: Result) -> None:
-        """Send the solves of ``result``'s picks (the ``searched`` hook)."""
+        """Send the solves of ``result``'s picks and its search part (the ``searched``
+        hook)."""
         from stackopt.analyses.lines import field_checks
 
         if self._drawer is None:
             return
+        # first (a pipe holds little: this waits until the drawer reads it, and it reads
+        # nothing while it solves)
+        self._drawer.keep(problem=result.problem, candidates=result.candidates,
+                          evaluation=result.evaluation)
         keys = result.field_keys([i for i in result.picks.values() if i is not None])
         self._sent = bool(keys) and self._drawer.submit(field_checks, keys)
 
@@ -155,7 +165,7 @@ def drawn(result: Result, sweep: QuantitySweep | None = None) -> dict[str, bytes
 
 def render_all(result: Result, extra_summary: dict | None = None,
                sweep: QuantitySweep | None = None, drawer: Drawer | None = None,
-               ahead: LinesAhead | None = None) -> dict[str, bytes]:
+               ahead: Ahead | None = None) -> dict[str, bytes]:
     """Every output file's bytes, by file name (nothing is written). The mitigation
     files and summary key come only from a design space with two-layer boards
     (``mitigation_ladder`` is ``null`` otherwise); ``quantities.png``, the report's cost
@@ -227,7 +237,7 @@ def _texts(result: Result, extra_summary: dict | None, sweep: QuantitySweep | No
 
 def write_all(result: Result, out_dir: str | Path, force: bool = False,
               extra_summary: dict | None = None, sweep: QuantitySweep | None = None,
-              drawer: Drawer | None = None, ahead: LinesAhead | None = None
+              drawer: Drawer | None = None, ahead: Ahead | None = None
               ) -> list[Path]:
     """Render every output file and write them as one result into ``out_dir``, all or
     nothing (:func:`stackopt.outputs.resultdir.write_result`).
@@ -247,7 +257,7 @@ def write_all(result: Result, out_dir: str | Path, force: bool = False,
         Cost against quantity (see :func:`render_all`).
     drawer : Drawer, optional
         A drawing process started before the search (see :func:`render_all`).
-    ahead : LinesAhead, optional
+    ahead : Ahead, optional
         Field solves sent to ``drawer`` before the analyses (see :func:`render_all`).
 
     Returns

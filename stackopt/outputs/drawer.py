@@ -20,8 +20,10 @@ it: an interrupted or failed run leaves nothing behind.
 
 from __future__ import annotations
 
+import io
 import multiprocessing
 import os
+import pickle
 import signal
 from collections.abc import Callable
 from multiprocessing.connection import Connection
@@ -32,16 +34,42 @@ from stackopt.outputs.parallel import workers
 __all__ = ["Drawer"]
 
 
+class _Pickler(pickle.Pickler):
+    """Pickles an object the drawer already holds (:meth:`Drawer.keep`) as its name."""
+
+    def __init__(self, file: io.BytesIO, held: dict[int, tuple[str, Any]]) -> None:
+        super().__init__(file, protocol=pickle.HIGHEST_PROTOCOL)
+        self._held = held
+
+    def persistent_id(self, obj: Any) -> str | None:
+        name = self._held.get(id(obj))
+        return name[0] if name is not None and name[1] is obj else None
+
+
+class _Unpickler(pickle.Unpickler):
+    def __init__(self, file: io.BytesIO, held: dict[str, Any]) -> None:
+        super().__init__(file)
+        self._held = held
+
+    def persistent_load(self, pid: Any) -> Any:
+        return self._held[pid]
+
+
 def _serve(conn: Connection, other: Connection, warm: Callable[[], None]) -> None:
     """The forked process: warm up, then run each task it is sent, in order, and send its
-    value back, until the caller closes the pipe."""
+    value back, until the caller closes the pipe; objects it is asked to keep are held
+    for the later tasks that refer to them."""
     other.close()  # the caller's end: closed here, so the caller closing it reads as EOF
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     os.setpgid(0, 0)  # its own group: close() ends it with the workers it forks
+    held: dict[str, Any] = {}
     try:
         warm()
         while True:
-            fn, args = conn.recv()  # EOFError: the caller closed, no more tasks
+            fn, args = _Unpickler(io.BytesIO(conn.recv_bytes()), held).load()  # EOFError:
+            if fn is None:  # the caller closed, no more tasks; None: objects to keep
+                held.update(args)
+                continue
             try:
                 reply: tuple[str, Any] = ("ok", fn(*args))
             except BaseException as exc:  # raised again in the caller, as in one process
@@ -75,6 +103,7 @@ class Drawer:
             pass
         child.close()
         self._waiting = 0  # tasks sent whose value is not collected yet
+        self._held: dict[int, tuple[str, Any]] = {}  # id -> (name, the object, kept alive)
 
     @classmethod
     def start(cls, warm: Callable[[], None]) -> Drawer | None:
@@ -82,17 +111,36 @@ class Drawer:
         available (:func:`stackopt.outputs.parallel.workers`)."""
         return cls(warm) if workers(2) >= 2 else None
 
-    def submit(self, fn: Callable[..., Any], *args: Any) -> bool:
-        """Send the task ``fn(*args)``; False (nothing sent, the drawer closed) if it
-        cannot be pickled or the drawer is gone: the caller then runs it itself."""
+    def _send(self, message: tuple) -> bool:
         if self._conn.closed:
             return False
+        buf = io.BytesIO()
         try:
-            self._conn.send((fn, args))
+            _Pickler(buf, self._held).dump(message)
+            self._conn.send_bytes(buf.getbuffer())
         except Exception:  # unpicklable, or the process died: do it in the caller
             self.close()
             return False
+        return True
+
+    def submit(self, fn: Callable[..., Any], *args: Any) -> bool:
+        """Send the task ``fn(*args)``; False (nothing sent, the drawer closed) if it
+        cannot be pickled or the drawer is gone: the caller then runs it itself. Objects
+        given to :meth:`keep` are sent as their names."""
+        if not self._send((fn, args)):
+            return False
         self._waiting += 1
+        return True
+
+    def keep(self, **objects: Any) -> bool:
+        """Send ``objects`` now, to be held there: a later task's arguments that contain
+        one of them (the very object) send its name instead of its bytes. For large parts
+        that do not change (e.g. a search's evaluation, sent while the analyses run, so
+        that the drawing task later sends only what the analyses added). False if they
+        could not be sent (the drawer is then closed)."""
+        if not self._send((None, objects)):
+            return False
+        self._held.update((id(v), (k, v)) for k, v in objects.items())
         return True
 
     def result(self) -> Any:
