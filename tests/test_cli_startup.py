@@ -102,6 +102,7 @@ def test_the_search_and_the_texts_do_not_import_matplotlib_or_pandas():
              "inp = load_inputs(None, None, None)\n"
              "r = stackopt.optimize(inp.scenario, inp.table, seed=1)\n"
              "out = bundle._texts(r, None, None)\n"
+             "bundle._tables(r, whole=True)\n"
              "assert b'robust' in out['report.md']\n"
              "report_html(r, {}, None)\n"
              "print(sorted(m for m in sys.modules if m.split('.')[0] in "

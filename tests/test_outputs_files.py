@@ -8,7 +8,7 @@ import pandas as pd
 import pytest
 
 from stackopt.errors import OutputError, StackoptError
-from stackopt.outputs.exports import _csv, csv_safe
+from stackopt.outputs.exports import _csv_text, csv_safe
 from stackopt.outputs.files import atomic_write_bytes, atomic_write_text, inside, prepare_out_dir
 from stackopt.outputs.report_render import md_escape, render_html, render_markdown
 
@@ -88,7 +88,7 @@ def test_csv_safe_neutralises_formula_cells(cell):
 def test_csv_keeps_numbers_numeric():
     df = pd.DataFrame({"name": ["=cmd|' /C calc'!A0", "ok"], "margin_dB": [-3.5, 2.0],
                        "n": [-1, 2], "flag": [True, False]})
-    text = _csv(df)
+    text = _csv_text({c: df[c].to_numpy() for c in df.columns})
     lines = text.splitlines()
     assert lines[1].startswith("\"'=cmd") or lines[1].startswith("'=cmd")
     assert ",-3.5,-1,True" in lines[1]

@@ -23,6 +23,7 @@ from stackopt.outputs.exports import (
 from stackopt.outputs.facts import passband_summary, selected_index, sweep_freqs
 from stackopt.outputs.files import prepare_out_dir
 from stackopt.outputs.resultdir import write_result
+from stackopt.search.table import candidate_columns
 
 if TYPE_CHECKING:
     from stackopt.analyses.quantities import QuantitySweep
@@ -42,8 +43,6 @@ FILES = ("summary.json", "candidates.csv", "front.csv", "report.html", "report.m
 
 #: Job name prefix of the candidates table's blocks (joined in job order).
 _CSV_BLOCK = "candidates.csv#"
-#: The other tables made by :func:`drawing_jobs` (job name = file name).
-_TABLES = ("front.csv", "mitigations.csv")
 
 
 def _csv_block(result: Result, k: int) -> bytes:
@@ -100,11 +99,10 @@ class Ahead:
 
 
 def warm() -> None:
-    """Import what drawing the figures and formatting the tables needs (a
-    :class:`~stackopt.outputs.drawer.Drawer` does this while the search runs)."""
+    """Import what drawing the figures needs (a :class:`~stackopt.outputs.drawer.Drawer`
+    does this while the search runs)."""
     import matplotlib.backends.backend_agg  # noqa: F401
     import matplotlib.figure  # noqa: F401
-    import pandas  # noqa: F401  (the tables; the searching process never loads it)
 
     import stackopt.outputs.plots  # noqa: F401
     import stackopt.outputs.plots_ladder  # noqa: F401
@@ -113,10 +111,11 @@ def warm() -> None:
     import stackopt.outputs.sweep  # noqa: F401
 
 
-def drawing_jobs(result: Result, sweep: QuantitySweep | None = None) -> dict[str, Job]:
-    """The figures and the tables (the candidates table's blocks, the front, the
-    mitigation ladder) as jobs (name -> bytes, or several named files), independent of
-    each other and of the text outputs."""
+def drawing_jobs(result: Result, sweep: QuantitySweep | None = None,
+                 table_blocks: bool = True) -> dict[str, Job]:
+    """The figures and, with ``table_blocks``, the candidates table's blocks (a large
+    table shared by the cores) as jobs (name -> bytes, or several named files),
+    independent of each other and of the text outputs."""
     from stackopt.outputs.plots import figure_bytes, plot_front, plot_response
     from stackopt.outputs.plots_ladder import plot_mitigations
     from stackopt.outputs.plots_stackup import plot_costs, plot_prepregs, plot_stackups
@@ -134,11 +133,12 @@ def drawing_jobs(result: Result, sweep: QuantitySweep | None = None) -> dict[str
         "costs": lambda: figure_bytes(plot_costs(result), "png"),
         "prepregs": lambda: figure_bytes(plot_prepregs(result), "png"),
     }
-    # the table's whole-batch columns (heights, Dk, flags) computed here once, before
-    # the fork, instead of once in every worker
-    result.frame(np.zeros(0, dtype=np.int64))
-    for k in range(csv_blocks(result)):  # the large table in blocks, shared by the cores
-        jobs[f"{_CSV_BLOCK}{k}"] = functools.partial(_csv_block, result, k)
+    if table_blocks:
+        # the table's whole-batch columns (heights, Dk, flags) computed here once, before
+        # the fork, instead of once in every worker
+        candidate_columns(result, np.zeros(0, dtype=np.int64))
+        for k in range(csv_blocks(result)):  # the large table in blocks, on every core
+            jobs[f"{_CSV_BLOCK}{k}"] = functools.partial(_csv_block, result, k)
     if result.robust:
         from stackopt.outputs.plots_robust import plot_robustness
 
@@ -149,18 +149,26 @@ def drawing_jobs(result: Result, sweep: QuantitySweep | None = None) -> dict[str
         from stackopt.outputs.sweep import plot_quantities
 
         jobs["quantities"] = lambda: figure_bytes(plot_quantities(sweep), "png")
-    # the other tables: pandas is loaded there, not in the process that writes the texts
-    jobs["front.csv"] = lambda: front_csv(result).encode("utf-8")
-    if ladder is not None:
-        jobs["mitigations.csv"] = lambda: mitigations_csv(ladder).encode("utf-8")
     return jobs
 
 
-def drawn(result: Result, sweep: QuantitySweep | None = None) -> dict[str, bytes]:
+def drawn(result: Result, sweep: QuantitySweep | None = None,
+          table_blocks: bool = True) -> dict[str, bytes]:
     """Every job of :func:`drawing_jobs` run on every free core, by output name."""
     from stackopt.outputs.parallel import render
 
-    return render(drawing_jobs(result, sweep))[0]
+    return render(drawing_jobs(result, sweep, table_blocks))[0]
+
+
+def _tables(result: Result, whole: bool) -> dict[str, bytes]:
+    """The front and the mitigation ladder as CSV, and the candidates table if
+    ``whole``."""
+    out = {"front.csv": front_csv(result).encode("utf-8")}
+    if result.ladder is not None:
+        out["mitigations.csv"] = mitigations_csv(result.ladder).encode("utf-8")
+    if whole:
+        out["candidates.csv"] = candidates_csv(result).encode("utf-8")
+    return out
 
 
 def render_all(result: Result, extra_summary: dict | None = None,
@@ -172,29 +180,33 @@ def render_all(result: Result, extra_summary: dict | None = None,
     against quantity and the summary's ``quantity_sweep`` only with a ``sweep``
     (:class:`~stackopt.analyses.quantities.QuantitySweep`).
 
-    The figures and the candidates table are drawn by ``drawer`` (a
-    :class:`~stackopt.outputs.drawer.Drawer` started before the search) if given, else
-    by workers forked now (:func:`stackopt.outputs.parallel.render`), while this
-    process writes the summary, the tables and the reports; the bytes are the same.
-    Field solves sent ahead to the drawer (``ahead``) are collected first.
+    The figures are drawn by ``drawer`` (a :class:`~stackopt.outputs.drawer.Drawer`
+    started before the search) if given, else by workers forked now
+    (:func:`stackopt.outputs.parallel.render`), while this process writes the summary,
+    the tables and the reports; the bytes are the same. The tables come first, while
+    the drawer still solves the field checks sent ``ahead``, which are collected next; a
+    candidates table of more than one block (:data:`~stackopt.outputs.exports.CSV_BLOCK`)
+    is formatted in blocks by the drawing workers instead, on every core.
     """
     from stackopt.outputs.parallel import render
     from stackopt.outputs.report import IMAGE_FILES, report_html
 
+    blocks = csv_blocks(result) > 1
+    out = _tables(result, whole=not blocks)  # no pandas, no fields: the drawer is busy
     if ahead is not None:
         ahead.collect(result)
     _ = result.ladder  # both shares read it: built once, before either process starts
     texts = functools.partial(_texts, result, extra_summary, sweep)  # this process's share
-    if drawer is not None and drawer.submit(drawn, result, sweep):
-        out = texts()
+    if drawer is not None and drawer.submit(drawn, result, sweep, blocks):
+        out.update(texts())
         images = drawer.result()
     else:
-        images, mine = render(drawing_jobs(result, sweep), meanwhile=texts)
+        images, mine = render(drawing_jobs(result, sweep, blocks), meanwhile=texts)
         assert mine is not None
-        out = mine
-    blocks = [k for k in images if k.startswith(_CSV_BLOCK)]  # in job order
-    out["candidates.csv"] = b"".join([images.pop(k) for k in blocks])
-    out.update((k, images.pop(k)) for k in _TABLES if k in images)
+        out.update(mine)
+    if blocks:
+        parts = [k for k in images if k.startswith(_CSV_BLOCK)]  # in job order
+        out["candidates.csv"] = b"".join([images.pop(k) for k in parts])
     out["pareto.svg"] = images.pop("pareto.svg")
     out["report.html"] = report_html(result, images, sweep).encode("utf-8")
     for key, name in IMAGE_FILES.items():

@@ -18,11 +18,9 @@ import yaml
 
 from stackopt.outputs.facts import selected_index
 from stackopt.outputs.report_sections import OZ
-from stackopt.search.table import Template, candidate_columns
+from stackopt.search.table import Template, candidate_columns, factorize
 
 if TYPE_CHECKING:
-    import pandas as pd
-
     from stackopt.search.results import Result
 
 __all__ = ["candidates_csv", "csv_blocks", "front_csv", "mitigations_csv", "selected_yaml",
@@ -64,27 +62,20 @@ def _column(values: np.ndarray) -> list[str]:
     ``float_format="%.10g"``: floats as ``%.10g`` (missing: empty), integers in decimal,
     booleans as True/False, anything else as text cells (:func:`_cell`). A column of few
     distinct values (copper, drill, thicknesses, costs, layer counts) is formatted once
-    per value."""
-    import pandas as pd  # tables are written where pandas is loaded (the drawing process)
-
+    per value (:func:`~stackopt.search.table.factorize`)."""
     kind = values.dtype.kind
     if kind == "b":
         return _BOOL_TEXT[values.astype(np.intp)].tolist()
     if kind in "fiu" and values.dtype.itemsize == 8:
         # grouped by bit pattern, so -0.0 and 0.0 and every NaN keep their own text
-        codes, bits = pd.factorize(values.view(np.int64), use_na_sentinel=False)
+        codes, bits = factorize(values.view(np.int64))
         if 4 * len(bits) < len(values):
             uniq = np.asarray(bits, dtype=np.int64).view(values.dtype)
             return np.array(_texts(uniq), dtype=object)[codes].tolist()
     if kind in "fiu":
         return _texts(values)
-    codes, uniques = pd.factorize(values, use_na_sentinel=False)
-    u = pd.Series(uniques, dtype=object)
-    exact_str = u.map(lambda v: type(v) is str).astype(bool)  # not numpy's str subclass
-    plain = exact_str & ~u.str.contains(r'[,"\n\r]', regex=True, na=True) \
-        & ~u.str.startswith(_TRIGGERS, na=True)  # most cells: written as they are
-    cells = np.array([v if ok else _cell(v)
-                      for v, ok in zip(u.tolist(), plain.tolist(), strict=True)], dtype=object)
+    codes, uniques = factorize(values.astype(object, copy=False))
+    cells = np.array([_cell(v) for v in uniques.tolist()], dtype=object)
     return cells[codes].tolist()  # each distinct text handled once
 
 
@@ -95,16 +86,11 @@ def _texts(values: np.ndarray) -> list[str]:
     return [str(x) for x in values.tolist()]
 
 
-def _csv(df: pd.DataFrame, header: bool = True) -> str:
-    """The table as CSV text (the layout pandas' ``to_csv`` gives with
-    ``float_format="%.10g"``), each column's cells made as text and each row joined
-    once: about six times faster than pandas for the large tables of candidates."""
-    return _csv_text({str(c): df[c].to_numpy() for c in df.columns}, header)
-
-
 def _csv_text(columns: Mapping[str, np.ndarray | Template], header: bool = True) -> str:
     """Columns (arrays of N, or a :class:`~stackopt.search.table.Template`, whose cells
-    need no quoting) as the CSV text of :func:`_csv`."""
+    need no quoting) as CSV text: the layout pandas' ``to_csv`` gives with
+    ``float_format="%.10g"``, each column's cells made as text and each row joined once
+    (about six times faster than pandas for the large tables of candidates)."""
     cells = [v.cells() if isinstance(v, Template) else _column(v) for v in columns.values()]
     head = ",".join(_cell(c) for c in columns) + "\n" if header else ""
     if not cells or not len(cells[0]):
@@ -134,8 +120,19 @@ def front_csv(result: Result) -> str:
 
 def mitigations_csv(ladder) -> str:
     """The mitigation ladder, the two-layer Pareto set and the four-layer board
-    (:meth:`stackopt.search.ladder.Ladder.frame`, ``set`` column tells which)."""
-    return _csv(ladder.frame())
+    (:meth:`stackopt.search.ladder.Ladder.frame`, ``set`` column tells which), formatted
+    a part at a time from its columns (a column a part lacks is empty there), without a
+    data frame: the texts are written where pandas is not loaded."""
+    parts = ladder.parts()
+    names = ["set", *dict.fromkeys(c for _, cols in parts for c in cols)]
+    text = ",".join(_cell(c) for c in names) + "\n"
+    for name, cols in parts:
+        n = len(next(iter(cols.values()))) if cols else 0
+        if n:
+            cells = [[name] * n if c == "set" else
+                     _column(np.asarray(cols[c])) if c in cols else [""] * n for c in names]
+            text += "\n".join(map(",".join, zip(*cells, strict=True))) + "\n"
+    return text
 
 
 def _q(x: float, unit: str, scale: float, digits: int = 6) -> str:

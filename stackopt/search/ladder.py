@@ -62,6 +62,9 @@ __all__ = ["Ladder", "mitigation_ladder", "build_ladder", "climb", "plain_board"
            "two_layer_combinations", "ENUMERATE_LIMIT"]
 
 _EPS_DB = 1e-6
+#: The step table's columns when no two-layer board can be built.
+_BLOCKED_COLUMNS = ("step", "kind", "change", "d_cost", "total_d_cost", "d_margin_dB",
+                    "dB_per_cost")
 
 
 def _neighbours(problem: Problem, c: Candidates) -> tuple[Candidates, list[str]]:
@@ -230,32 +233,39 @@ class Ladder:
         cols.update(self._columns(self.steps, ev))
         return cols
 
+    def parts(self) -> list[tuple[str, dict[str, object]]]:
+        """The tables of :meth:`frame` as ``(set, columns)``: ``"ladder"`` (the steps of
+        :attr:`table`), ``"pareto"`` and, with a four-layer board, ``"four_layer"``;
+        columns are arrays or lists of one length (none for a blocked ladder's steps)."""
+        steps = ({c: [] for c in _BLOCKED_COLUMNS} if self.blocked
+                 else self._step_columns())
+        out = [("ladder", steps), ("pareto", self._columns(self.pareto,
+                                                           self.pareto_evaluation))]
+        if self.four_layer is not None and self.four_layer_evaluation is not None:
+            out.append(("four_layer", self._columns(self.four_layer,
+                                                    self.four_layer_evaluation)))
+        return out
+
     @property
     def table(self) -> pd.DataFrame:
         """One row per step: the change, Δcost per board, ΔdB at every requirement and of
         the margin, dB per unit cost (empty for a free step), and the board."""
         import pandas as pd
 
-        if self.blocked:
-            return pd.DataFrame(columns=["step", "kind", "change", "d_cost", "total_d_cost",
-                                         "d_margin_dB", "dB_per_cost"])
-        return pd.DataFrame(self._step_columns())
+        return pd.DataFrame(self.parts()[0][1])
 
     @property
     def pareto_table(self) -> pd.DataFrame:
         """The Pareto set of two-layer combinations, by increasing unit cost."""
         import pandas as pd
 
-        return pd.DataFrame(self._columns(self.pareto, self.pareto_evaluation))
+        return pd.DataFrame(self.parts()[1][1])
 
     def frame(self) -> pd.DataFrame:
         """Ladder, Pareto set and the four-layer board in one table (``set`` column)."""
         import pandas as pd
 
-        parts = [self.table.assign(set="ladder"), self.pareto_table.assign(set="pareto")]
-        if self.four_layer is not None and self.four_layer_evaluation is not None:
-            parts.append(pd.DataFrame(self._columns(
-                self.four_layer, self.four_layer_evaluation)).assign(set="four_layer"))
+        parts = [pd.DataFrame(cols).assign(set=name) for name, cols in self.parts()]
         cols = list(dict.fromkeys(c for p in parts for c in p.columns))
         kept = [p for p in parts if len(p)]  # an empty part would turn columns to object
         df = (pd.concat(kept, ignore_index=True) if kept else parts[0]).reindex(columns=cols)
