@@ -99,10 +99,13 @@ class Ahead:
 
 
 def warm() -> None:
-    """Import what drawing the figures needs (a :class:`~stackopt.outputs.drawer.Drawer`
-    does this while the search runs)."""
+    """Import what the field solves sent :class:`Ahead` and the figures need (a
+    :class:`~stackopt.outputs.drawer.Drawer` does this while the search runs)."""
     import matplotlib.backends.backend_agg  # noqa: F401
     import matplotlib.figure  # noqa: F401
+
+    import stackopt.analyses.lines  # noqa: F401
+    import stackopt.physics.fieldsolve  # noqa: F401  (scipy's sparse solver)
 
     import stackopt.outputs.plots  # noqa: F401
     import stackopt.outputs.plots_ladder  # noqa: F401
