@@ -105,13 +105,12 @@ def warm() -> None:
     import matplotlib.figure  # noqa: F401
 
     import stackopt.analyses.lines  # noqa: F401
-    import stackopt.physics.fieldsolve  # noqa: F401  (scipy's sparse solver)
-
     import stackopt.outputs.plots  # noqa: F401
     import stackopt.outputs.plots_ladder  # noqa: F401
     import stackopt.outputs.plots_robust  # noqa: F401
     import stackopt.outputs.plots_stackup  # noqa: F401
     import stackopt.outputs.sweep  # noqa: F401
+    import stackopt.physics.fieldsolve  # noqa: F401  (scipy's sparse solver)
 
 
 def drawing_jobs(result: Result, sweep: QuantitySweep | None = None,
