@@ -187,3 +187,22 @@ def test_objects_the_drawer_keeps_are_sent_once(monkeypatch):
         assert d.submit(np.sum, big) and d.result() == float(np.sum(big))
         assert d.submit(np.sum, big.copy()) and d.result() == float(np.sum(big))
     assert sizes[0] > 8_000_000 and sizes[1] < 1_000 < 8_000_000 < sizes[2]
+
+
+def test_a_task_written_in_the_background_does_not_wait_for_a_busy_drawer(monkeypatch):
+    # a pipe holds little: a large task sent while the drawer works on another would
+    # block the caller; wait=False returns at once and the values still come in order
+    import time
+
+    import numpy as np
+
+    monkeypatch.setenv("STACKOPT_JOBS", "2")
+    big = np.ones(2_000_000)
+    with _drawer_or_skip() as d:
+        assert d.submit(time.sleep, 1.0)
+        t = time.perf_counter()
+        assert d.keep(big=big, wait=False) and d.submit(np.sum, big, wait=False)
+        assert d.submit(np.sum, big.copy(), wait=False)
+        assert time.perf_counter() - t < 0.5  # did not wait for the sleeping drawer
+        assert d.result() is None
+        assert d.result() == 2_000_000.0 and d.result() == 2_000_000.0

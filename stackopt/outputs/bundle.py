@@ -84,12 +84,11 @@ class Ahead:
 
         if self._drawer is None:
             return
-        # first (a pipe holds little: this waits until the drawer reads it, and it reads
-        # nothing while it solves)
+        # written from a thread, in this order: the drawer reads them when it has warmed
         self._drawer.keep(problem=result.problem, candidates=result.candidates,
-                          evaluation=result.evaluation)
+                          evaluation=result.evaluation, wait=False)
         keys = result.field_keys([i for i in result.picks.values() if i is not None])
-        self._sent = bool(keys) and self._drawer.submit(field_checks, keys)
+        self._sent = bool(keys) and self._drawer.submit(field_checks, keys, wait=False)
 
     def collect(self, result: Result) -> None:
         """Add the solves to ``result`` (waits for them); nothing if none were sent."""
@@ -194,12 +193,15 @@ def render_all(result: Result, extra_summary: dict | None = None,
     from stackopt.outputs.report import IMAGE_FILES, report_html
 
     blocks = csv_blocks(result) > 1
-    out = _tables(result, whole=not blocks)  # no pandas, no fields: the drawer is busy
+    # the drawing first (written from a thread: the drawer reads it once it is done with
+    # the field solves), then the tables (no pandas, no fields), then the solves
+    sent = drawer is not None and drawer.submit(drawn, result, sweep, blocks, wait=False)
+    out = _tables(result, whole=not blocks)
     if ahead is not None:
         ahead.collect(result)
-    _ = result.ladder  # both shares read it: built once, before either process starts
     texts = functools.partial(_texts, result, extra_summary, sweep)  # this process's share
-    if drawer is not None and drawer.submit(drawn, result, sweep, blocks):
+    if sent:
+        assert drawer is not None
         out.update(texts())
         images = drawer.result()
     else:

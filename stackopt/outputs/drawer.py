@@ -25,6 +25,7 @@ import multiprocessing
 import os
 import pickle
 import signal
+import threading
 from collections.abc import Callable
 from multiprocessing.connection import Connection
 from typing import Any
@@ -104,6 +105,8 @@ class Drawer:
         child.close()
         self._waiting = 0  # tasks sent whose value is not collected yet
         self._held: dict[int, tuple[str, Any]] = {}  # id -> (name, the object, kept alive)
+        self._writer: threading.Thread | None = None  # a task still being written
+        self._write_error: list[BaseException] = []
 
     @classmethod
     def start(cls, warm: Callable[[], None]) -> Drawer | None:
@@ -111,34 +114,58 @@ class Drawer:
         available (:func:`stackopt.outputs.parallel.workers`)."""
         return cls(warm) if workers(2) >= 2 else None
 
-    def _send(self, message: tuple) -> bool:
+    def _written(self) -> None:
+        """Wait until a task written in the background is in the pipe; its error here."""
+        if self._writer is not None:
+            self._writer.join()
+            self._writer = None
+        if self._write_error:
+            raise self._write_error.pop()
+
+    def _write(self, data: bytes, after: threading.Thread | None) -> None:
+        if after is not None:  # messages go in the order they were sent
+            after.join()
+        try:
+            self._conn.send_bytes(data)
+        except BaseException as exc:  # the drawer died: reported by the next call
+            self._write_error.append(exc)
+
+    def _send(self, message: tuple, wait: bool = True) -> bool:
         if self._conn.closed:
             return False
         buf = io.BytesIO()
         try:
             _Pickler(buf, self._held).dump(message)
-            self._conn.send_bytes(buf.getbuffer())
+            if wait:
+                self._written()
+                self._conn.send_bytes(buf.getbuffer())
+            else:  # a pipe holds little: the write waits until the drawer reads it
+                self._writer = threading.Thread(
+                    target=self._write, args=(buf.getvalue(), self._writer), daemon=True)
+                self._writer.start()
         except Exception:  # unpicklable, or the process died: do it in the caller
             self.close()
             return False
         return True
 
-    def submit(self, fn: Callable[..., Any], *args: Any) -> bool:
+    def submit(self, fn: Callable[..., Any], *args: Any, wait: bool = True) -> bool:
         """Send the task ``fn(*args)``; False (nothing sent, the drawer closed) if it
         cannot be pickled or the drawer is gone: the caller then runs it itself. Objects
-        given to :meth:`keep` are sent as their names."""
-        if not self._send((fn, args)):
+        given to :meth:`keep` are sent as their names. ``wait=False`` returns once the
+        task is pickled, while a thread writes it (the drawer reads it when it is done
+        with the task before; if it died, :meth:`result` finds the pipe closed)."""
+        if not self._send((fn, args), wait):
             return False
         self._waiting += 1
         return True
 
-    def keep(self, **objects: Any) -> bool:
+    def keep(self, *, wait: bool = True, **objects: Any) -> bool:
         """Send ``objects`` now, to be held there: a later task's arguments that contain
         one of them (the very object) send its name instead of its bytes. For large parts
         that do not change (e.g. a search's evaluation, sent while the analyses run, so
         that the drawing task later sends only what the analyses added). False if they
-        could not be sent (the drawer is then closed)."""
-        if not self._send((None, objects)):
+        could not be sent (the drawer is then closed); ``wait`` as :meth:`submit`."""
+        if not self._send((None, objects), wait):
             return False
         self._held.update((id(v), (k, v)) for k, v in objects.items())
         return True
@@ -148,7 +175,7 @@ class Drawer:
         is raised here (and the drawer closed)."""
         if self._waiting == 0:
             raise RuntimeError("no task was sent to the drawer, or its value was collected")
-        status, value = self._conn.recv()
+        status, value = self._conn.recv()  # (a task still being written: the other way)
         self._waiting -= 1
         if status == "error":
             self.close()
@@ -158,13 +185,16 @@ class Drawer:
     def close(self) -> None:
         """End the process and wait for it: it exits when its pipe closes, or, while it
         still works on a task nobody will collect, with its workers at once."""
-        if not self._conn.closed:
-            self._conn.close()
         if self._waiting and self._proc.is_alive():
             try:
                 os.killpg(self._pid, signal.SIGTERM)
             except (ProcessLookupError, PermissionError):
                 pass
+        if self._writer is not None:  # its write fails once the drawer is gone
+            self._writer.join()
+            self._writer = None
+        if not self._conn.closed:
+            self._conn.close()
         self._proc.join()
 
     def __enter__(self) -> Drawer:
