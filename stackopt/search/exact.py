@@ -121,10 +121,11 @@ def _thickness_terms(problem: Problem, layers: int, cu: float, drill: float, vip
 #: Seconds per (head x thickness state x copper x drill x via-in-pad) total priced, and
 #: per representative evaluated in full (physics once per phenotype, pricing, widths);
 #: bytes held per representative during its evaluation. Fitted to runs of
-#: ``benchmarks/bench_auto.py`` on the machine of docs/performance.md (2-core AMD EPYC,
-#: one thread); the estimate's error against real runs is quoted there.
-SECONDS_PER_PRICED = 0.35e-6
-SECONDS_PER_REPRESENTATIVE = 45e-6
+#: ``benchmarks/bench_auto.py`` on the machine of docs/performance.md (2-core Intel Xeon,
+#: one thread; refitted 2026-12-03 after the evaluation got about three times faster);
+#: the estimate's error against real runs is quoted there.
+SECONDS_PER_PRICED = 0.15e-6
+SECONDS_PER_REPRESENTATIVE = 15e-6
 BYTES_PER_REPRESENTATIVE = 1400
 
 
