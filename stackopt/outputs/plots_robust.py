@@ -49,9 +49,14 @@ def _boxes(ax, samples: list[np.ndarray], ys: np.ndarray, height: float = 0.45) 
         np.stack([np.c_[hi, c0], np.c_[hi, c1]], axis=1)])), colors="black", linewidths=1.0,
         zorder=2.0))
     fx = np.concatenate([s["fliers"] for s in st])
-    fy = np.repeat(ys, [len(s["fliers"]) for s in st])
+    counts = [len(s["fliers"]) for s in st]
+    # spread over five rows within the box's height (the row's height means nothing), so
+    # that builds packed just past a cap read as dots, not as the whisker running on
+    rank = np.concatenate([np.arange(c) for c in counts]) if counts else np.zeros(0)
+    fy = np.repeat(ys, counts) + (rank % 5 - 2) * height / 10
     if len(fx):
-        ax.plot(fx, fy, ".", ms=2, mec="black", mfc="none", alpha=0.4, zorder=2.0)
+        ax.plot(fx, fy, "o", ms=1.8, mec="0.35", mfc="none", mew=0.5, alpha=0.7,
+                zorder=2.0)
 
 
 @styled
