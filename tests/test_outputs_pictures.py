@@ -128,7 +128,7 @@ def test_robustness_boxes_show_the_builds_quartiles_and_whiskers():
     lines = [c for c in ax.collections if isinstance(c, LineCollection)]
     medians, whiskers = lines[0].get_segments(), lines[1].get_segments()
     picks = unique_picks(res)
-    dots = [line for line in ax.get_lines() if line.get_marker() == "."]
+    dots = [line for line in ax.get_lines() if line.get_gid() == "builds beyond the whiskers"]
     n_out = 0
     for k, (i, _) in enumerate(picks):
         b = np.asarray(res.build_margins[i], dtype=float)
@@ -144,4 +144,7 @@ def test_robustness_boxes_show_the_builds_quartiles_and_whiskers():
                 if np.allclose(seg[:, 1], y)}
         assert round(float(lo), 9) in ends and round(float(hi), 9) in ends
         n_out += int(np.sum((b < lo) | (b > hi)))
+        mine = [yy for d in dots for xx, yy in zip(d.get_xdata(), d.get_ydata(), strict=True)
+                if (xx < lo or xx > hi) and box[:, 1].min() <= yy <= box[:, 1].max()]
+        assert len(mine) == int(np.sum((b < lo) | (b > hi)))  # on the pick's own row
     assert sum(len(d.get_xdata()) for d in dots) == n_out

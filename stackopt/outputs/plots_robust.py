@@ -56,7 +56,7 @@ def _boxes(ax, samples: list[np.ndarray], ys: np.ndarray, height: float = 0.45) 
     fy = np.repeat(ys, counts) + (rank % 5 - 2) * height / 10
     if len(fx):
         ax.plot(fx, fy, "o", ms=1.8, mec="0.35", mfc="none", mew=0.5, alpha=0.7,
-                zorder=2.0)
+                zorder=2.0, gid="builds beyond the whiskers")
 
 
 @styled
