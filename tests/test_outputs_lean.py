@@ -127,7 +127,7 @@ def test_mitigations_csv_equals_pandas_on_the_ladders_frame(scenario):
     np.array(["b", "a", "b", None, "c", "a"], dtype=object),
     np.zeros(0, dtype=np.int64)])
 def test_factorize_equals_pandas(values):
-    from stackopt.search.table import factorize
+    from stackopt.rows import factorize
 
     codes, uniques = factorize(values)
     ref_codes, ref_uniques = pd.factorize(values, use_na_sentinel=False)

@@ -11,7 +11,8 @@ from dataclasses import fields, replace
 import numpy as np
 
 from stackopt.circuit.grounds import GroundBatch
-from stackopt.search.phenotype import LineBatch, batch_key, exact_key, quantize, unique_rows
+from stackopt.rows import unique_rows
+from stackopt.search.phenotype import LineBatch, batch_key, exact_key, quantize
 
 
 def test_every_field_of_each_batch_is_in_the_key():

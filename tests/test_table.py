@@ -10,7 +10,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from stackopt.search.table import ID_FORMAT, CandidateIds, Template, distinct_rows
+from stackopt.rows import distinct_rows
+from stackopt.search.table import ID_FORMAT, CandidateIds, Template
 
 
 def test_ids_index_and_slice_as_the_list_of_every_id():

@@ -219,7 +219,7 @@ def test_equal_yield_keys_give_equal_builds(tmp_path):
     it (boards that differ only below the ground plane) get the same margin in every
     build, and boards whose via crosses differently split layers do not share it."""
     from stackopt.analyses.tolerances import yield_key
-    from stackopt.search.phenotype import unique_rows
+    from stackopt.rows import unique_rows
 
     table = _table(tmp_path, {"2116": "3 %"}, "6 %")
     p = shunt_via_problem(tmp_path, 10.0, layers=4, table=table, robustness={"samples": 32})

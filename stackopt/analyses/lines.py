@@ -98,17 +98,20 @@ def line_rows(problem, geometry, i: int, widths_row: np.ndarray, check: bool = T
             for x in (rows[j] or [_no_layer(ln)])]
 
 
+def _key(problem, r: int, lb, width: float) -> tuple[LineSpec, float | None, float]:
+    """``(cross-section, width or None, target)`` of route ``r`` on the one candidate of
+    ``lb``: the key of its field solve (:data:`Result.line_solves
+    <stackopt.search.results.Result.line_solves>`)."""
+    return (_scalar(problem.line_spec(r, lb), 0), _num(width),
+            problem.scenario.lines[problem.routes[r].line].target)
+
+
 def field_keys(problem, geometry, i: int, widths_row: np.ndarray) -> list[tuple]:
     """The field solves the checked line table of candidate ``i`` needs (as
     :func:`line_rows`): one key ``(cross-section, width, target)`` per route with a
     width, for :func:`field_checks`."""
-    keys = []
-    for r, lb in _routes(problem, geometry, i):
-        w = _num(widths_row[r])
-        if w is not None:
-            keys.append((_scalar(problem.line_spec(r, lb), 0), w,
-                         problem.scenario.lines[problem.routes[r].line].target))
-    return keys
+    keys = (_key(problem, r, lb, widths_row[r]) for r, lb in _routes(problem, geometry, i))
+    return [k for k in keys if k[1] is not None]
 
 
 def field_check(spec: LineSpec, w: float, target: float) -> tuple[float, float, float]:
@@ -143,14 +146,14 @@ def _route_row(problem, r: int, lb, width: float, check: bool, cache: dict) -> L
                target_ohm=ln.target, differential=pair, width_m=w,
                spacing_m=ln.spacing, gap_m=None, z_ohm=None, z_field_ohm=None,
                width_field_m=None, field_error=None, type=ln.type)
-    spec = _scalar(problem.line_spec(r, lb), 0)
+    ck = _key(problem, r, lb, width)
+    spec = ck[0]
     row["type"], row["gap_m"] = spec.type, spec.gap
     if w is not None:
         row["z_ohm"] = _num(closed_form(spec, w)["z_diff" if pair else "z0"])
     if check and w is not None:
-        ck = (spec, w, ln.target)
         if ck not in cache:
-            cache[ck] = field_check(*ck)
+            cache[ck] = field_check(spec, w, ck[2])
         zf, err, wf = cache[ck]
         row.update(z_field_ohm=_num(zf), field_error=_num(err), width_field_m=_num(wf))
     return LineRow(**row)

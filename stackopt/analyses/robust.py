@@ -18,7 +18,7 @@ from stackopt.analyses.prepregs import prepreg_rows, row_boards
 from stackopt.analyses.tolerances import build_draws, monte_carlo, yield_key
 from stackopt.circuit.metrics import attenuation_db
 from stackopt.physics.inductance import VIA_MODELS
-from stackopt.search.phenotype import unique_rows
+from stackopt.rows import unique_rows
 from stackopt.search.problem import Problem
 from stackopt.search.results import Result
 from stackopt.search.space import Geometry

@@ -53,7 +53,8 @@ from stackopt.circuit.mna import CHUNK, mna_s_varied
 from stackopt.model.circuit import Circuit
 from stackopt.model.geometry import LayerStack
 from stackopt.model.scenario import RobustnessSpec
-from stackopt.search.phenotype import batch_key, quantize, unique_rows
+from stackopt.rows import unique_rows
+from stackopt.search.phenotype import batch_key, quantize
 from stackopt.search.problem import Problem
 from stackopt.search.space import Geometry
 

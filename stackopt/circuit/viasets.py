@@ -30,6 +30,7 @@ from stackopt.physics.parallel import (
     row_positions,
     via_mutual_inductance,
 )
+from stackopt.rows import unique_rows
 
 __all__ = ["DEFAULT_PITCH_DRILLS", "STITCH_VIAS", "ViaBatch", "ViaTerms", "row_axes",
            "terminal_vias", "via_terms"]
@@ -77,11 +78,7 @@ class ViaBatch:
         values are each of its rows' own)."""
         cols = [a.view(np.int64) if a.dtype == np.float64 else a.astype(np.int64)
                 for a in (np.ascontiguousarray(getattr(self, f.name)) for f in fields(self))]
-        if not len(self.height):
-            return np.zeros(0, dtype=np.int64), np.zeros(0, dtype=np.int64)
-        _, first, inv = np.unique(np.column_stack(cols), axis=0, return_index=True,
-                                  return_inverse=True)
-        return first, inv.reshape(-1)
+        return unique_rows(np.column_stack(cols))
 
 
 def row_axes(xy: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -91,8 +91,9 @@ class Ahead:
         self._sent = bool(keys) and self._drawer.submit(field_checks, keys, wait=False)
 
     def collect(self, result: Result) -> None:
-        """Add the solves to ``result`` (waits for them); nothing if none were sent."""
-        if self._sent and self._drawer is not None:
+        """Add the solves to ``result`` (waits for them); nothing if none were sent or
+        the drawer was closed meanwhile (the texts then solve them here)."""
+        if self._sent and self._drawer is not None and not self._drawer.closed:
             self._sent = False
             result.line_solves.update(self._drawer.result())
 

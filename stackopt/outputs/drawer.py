@@ -1,7 +1,7 @@
 """A process that gets ready to draw while this one searches.
 
-The search runs on one core; the drawing libraries (matplotlib, pandas for the tables)
-take about 0.4 s to import, and the other core is idle meanwhile. A
+The search runs on one core; the drawing libraries (matplotlib) and the field solver
+(scipy's sparse LU) take about 0.4 s to import, and the other core is idle meanwhile. A
 :class:`Drawer` is forked before the search: it imports what drawing needs (``warm``)
 while the search runs, then waits for tasks (a module-level function and its
 arguments) and returns each task's value, while this process does its own share: the
@@ -131,7 +131,7 @@ class Drawer:
             self._write_error.append(exc)
 
     def _send(self, message: tuple, wait: bool = True) -> bool:
-        if self._conn.closed:
+        if self.closed:
             return False
         buf = io.BytesIO()
         try:
@@ -169,6 +169,12 @@ class Drawer:
             return False
         self._held.update((id(v), (k, v)) for k, v in objects.items())
         return True
+
+    @property
+    def closed(self) -> bool:
+        """True once :meth:`close` ran (e.g. after a task could not be sent): nothing
+        sent earlier will be answered."""
+        return self._conn.closed
 
     def result(self) -> Any:
         """The value of the oldest task not collected yet (waits for it); its exception

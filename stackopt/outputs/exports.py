@@ -18,7 +18,8 @@ import yaml
 
 from stackopt.outputs.facts import selected_index
 from stackopt.outputs.report_sections import OZ
-from stackopt.search.table import Template, candidate_columns, factorize
+from stackopt.rows import factorize
+from stackopt.search.table import Template, candidate_columns
 
 if TYPE_CHECKING:
     from stackopt.search.results import Result
@@ -128,10 +129,10 @@ def mitigations_csv(ladder) -> str:
     text = ",".join(_cell(c) for c in names) + "\n"
     for name, cols in parts:
         n = len(next(iter(cols.values()))) if cols else 0
-        if n:
-            cells = [[name] * n if c == "set" else
-                     _column(np.asarray(cols[c])) if c in cols else [""] * n for c in names]
-            text += "\n".join(map(",".join, zip(*cells, strict=True))) + "\n"
+        missing = np.full(n, None, dtype=object)  # written as empty cells
+        text += _csv_text({c: np.full(n, name, dtype=object) if c == "set" else
+                           np.asarray(cols[c]) if c in cols else missing for c in names},
+                          header=False)
     return text
 
 

@@ -30,7 +30,8 @@ from stackopt.physics.linetypes import (
     line_width,
     sized_impedance,
 )
-from stackopt.search.phenotype import LineBatch, batch_key, unique_rows
+from stackopt.rows import unique_rows
+from stackopt.search.phenotype import LineBatch, batch_key
 from stackopt.search.space import Geometry, Space
 
 __all__ = ["LineWork", "WIDTH_RANGE"]

@@ -18,7 +18,7 @@ from dataclasses import dataclass, fields
 import numpy as np
 from numpy.typing import ArrayLike
 
-__all__ = ["QUANTUM", "quantize", "batch_key", "exact_key", "unique_rows", "LineBatch"]
+__all__ = ["QUANTUM", "quantize", "batch_key", "exact_key", "LineBatch"]
 
 #: Resolution of the key, in SI units: 1 nm for lengths; Dk and the like resolve to 1e-9.
 QUANTUM = 1e-9
@@ -74,14 +74,6 @@ def exact_key(*batches: object) -> np.ndarray:
     """:func:`batch_key` without the quantization: every field's exact value (:func:`bits`),
     so two rows are equal only where every number the physics receives is identical."""
     return _key(batches, bits)
-
-
-def unique_rows(key: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(index of the first candidate of every distinct key, inverse (N,)) of a key."""
-    if not len(key):
-        return np.zeros(0, dtype=np.int64), np.zeros(0, dtype=np.int64)
-    _, first, inv = np.unique(key, axis=0, return_index=True, return_inverse=True)
-    return first, inv.reshape(-1)
 
 
 @dataclass(frozen=True)

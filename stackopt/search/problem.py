@@ -21,9 +21,10 @@ from stackopt.cost import PriceBatch, price
 from stackopt.model.costtable import BoardOrder, CostTable
 from stackopt.model.geometry import LayerStack
 from stackopt.model.scenario import Scenario
+from stackopt.rows import unique_rows
 from stackopt.search.lineroutes import LineWork
 from stackopt.search.memo import ResponseMemo
-from stackopt.search.phenotype import batch_key, exact_key, unique_rows
+from stackopt.search.phenotype import batch_key, exact_key
 from stackopt.search.space import Candidates, DielectricOptions, Geometry, Space
 
 __all__ = ["Problem", "Evaluation", "dielectric_options", "min_trace"]
